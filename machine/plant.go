@@ -1,0 +1,178 @@
+package machine
+
+// Plant is the decoded plant.toml: the site, its machines, rooms, microphone
+// zones, background recordings and recipes. Load fills it and validates it;
+// the zero value is not usable.
+type Plant struct {
+	// Seed is the plant seed every derived seed starts from.
+	Seed uint64 `toml:"seed"`
+	// SampleRate is the working sample rate in Hz; every recording must have it.
+	SampleRate int `toml:"sample_rate"`
+	// Recordings is the recordings root, relative to the plant file's folder
+	// unless absolute. Layout: <root>/<machine-id>/<condition>/.../*.wav.
+	Recordings string `toml:"recordings"`
+	// ClipSeconds is the clip length (default 10 s).
+	ClipSeconds float64 `toml:"clip_seconds"`
+	// Remainder says what happens to the tail of a recording shorter than a
+	// clip: "drop" (default) or "pad" (zero-filled to a full clip when at
+	// least half a clip long, dropped otherwise).
+	Remainder string `toml:"remainder"`
+	// Split holds the train/eval/test fractions used when a machine sets none.
+	Split SplitFractions `toml:"split"`
+
+	Machines    []Machine    `toml:"machine"`
+	Rooms       []Room       `toml:"room"`
+	Zones       []Zone       `toml:"zone"`
+	Backgrounds []Background `toml:"background"`
+	Recipes     []Recipe     `toml:"recipe"`
+
+	// Path is the file the plant was loaded from (not a TOML key).
+	Path string `toml:"-"`
+}
+
+// SplitFractions are the shares of groups that go to each split.
+type SplitFractions struct {
+	Train float64 `toml:"train"`
+	Eval  float64 `toml:"eval"`
+	Test  float64 `toml:"test"`
+	// AnomalousEval is the share of real anomalous groups sent to eval (the
+	// rest go to test).
+	AnomalousEval float64 `toml:"anomalous_eval"`
+}
+
+// Machine is one physical machine (a machine id).
+type Machine struct {
+	ID   string `toml:"id"`
+	Kind string `toml:"kind"` // pump, fan, compressor, gearbox, motor, conveyor
+	// Blades is the fan blade or pump/compressor vane count (0 = none).
+	Blades int `toml:"blades"`
+	// Room and Zone name where the machine stands and where microphones go.
+	Room string `toml:"room"`
+	Zone string `toml:"zone"`
+	// Position is the machine's acoustic centre in its room, metres.
+	Position []float64 `toml:"position"`
+	// Recipe is the default recipe id for all its conditions.
+	Recipe string `toml:"recipe"`
+	// Split overrides the plant's split fractions for this machine.
+	Split *SplitFractions `toml:"split"`
+
+	Bearings   []Bearing   `toml:"bearing"`
+	Gears      []GearStage `toml:"gear"`
+	Conditions []Condition `toml:"condition"`
+	Faults     *FaultPlan  `toml:"faults"`
+}
+
+// Condition is an operating condition of one machine.
+type Condition struct {
+	Name string  `toml:"name"`
+	RPM  float64 `toml:"rpm"`
+	// BandPercent is the half-width of the speed band around RPM, in percent:
+	// speed drift seen (or allowed) in this condition.
+	BandPercent float64 `toml:"band_percent"`
+	// HoldOut keeps the whole condition out of training.
+	HoldOut bool `toml:"hold_out"`
+	// Recipe overrides the machine's recipe for this condition.
+	Recipe string `toml:"recipe"`
+}
+
+// Bearing is a rolling-element bearing's geometry. Only the ratio of the two
+// diameters matters for the defect rates; millimetres are the convention.
+type Bearing struct {
+	Name            string  `toml:"name"`
+	Balls           int     `toml:"balls"`
+	BallDiameterMM  float64 `toml:"ball_diameter_mm"`
+	PitchDiameterMM float64 `toml:"pitch_diameter_mm"`
+	ContactAngleDeg float64 `toml:"contact_angle_deg"`
+	// Shaft is the gear-stage shaft the bearing sits on: 0 is the input shaft.
+	Shaft int `toml:"shaft"`
+}
+
+// GearStage is one mesh: the driving gear on shaft i, the driven on shaft i+1.
+type GearStage struct {
+	DrivingTeeth int `toml:"driving_teeth"`
+	DrivenTeeth  int `toml:"driven_teeth"`
+}
+
+// FaultPlan says which synthetic fault cues to make for a machine.
+type FaultPlan struct {
+	Kinds []string `toml:"kinds"`
+	// PerClip is how many fault files to make per kind and recorded clip
+	// (default 1).
+	PerClip int `toml:"per_clip"`
+	// SeverityDB is the cue level relative to the clip RMS, [min, max] dB.
+	SeverityDB []float64 `toml:"severity_db"`
+	// ResonanceHz is the structural resonance range, [min, max] Hz.
+	ResonanceHz []float64 `toml:"resonance_hz"`
+	// Damping is the resonance's damping ratio (default 0.05).
+	Damping float64 `toml:"damping"`
+	// JitterPercent is the slip jitter between impacts (default 1.5).
+	JitterPercent *float64 `toml:"jitter_percent"`
+}
+
+// Room is a rectangular room.
+type Room struct {
+	ID string `toml:"id"`
+	// Size is length, width, height in metres.
+	Size []float64 `toml:"size"`
+	// Absorption is the energy absorption coefficient per wall, in the
+	// order x=0, x=Lx, y=0, y=Ly, floor, ceiling; one value means all six.
+	Absorption []float64 `toml:"absorption"`
+	// OctaveAbsorption optionally gives per-wall absorption per octave band,
+	// keyed by band centre ("125" ... "4000"), six values each.
+	OctaveAbsorption map[string][]float64 `toml:"octave_absorption"`
+	// TemperatureC sets the speed of sound (default 20 °C).
+	TemperatureC *float64 `toml:"temperature_c"`
+	// RT60Range is the plausible reverberation time range, [min, max] s,
+	// used by the credibility guard (default 0.1 ... 5 s).
+	RT60Range []float64 `toml:"rt60_range"`
+}
+
+// Zone is a box inside a room where microphones may be placed.
+type Zone struct {
+	ID   string    `toml:"id"`
+	Room string    `toml:"room"`
+	Min  []float64 `toml:"min"`
+	Max  []float64 `toml:"max"`
+}
+
+// Background is a plant background recording used for mixing.
+type Background struct {
+	ID   string `toml:"id"`
+	Path string `toml:"path"` // relative to the plant file's folder unless absolute
+	Room string `toml:"room"` // optional: the room it was recorded in
+}
+
+// Recipe is an ordered list of steps a variant may draw from.
+type Recipe struct {
+	ID       string `toml:"id"`
+	Variants int    `toml:"variants"`
+	MinSteps int    `toml:"min_steps"`
+	MaxSteps int    `toml:"max_steps"`
+	Steps    []Step `toml:"step"`
+}
+
+// Step is one transform a recipe may draw, with its parameter range.
+type Step struct {
+	// Kind: speed, gain, invert, shift, filter, noise, background, room, ir,
+	// tempo, pitch.
+	Kind string `toml:"kind"`
+	// Range is [min, max] of the step's parameter (speed %, gain dB, shift
+	// ms, cutoff Hz, SNR dB, tempo %, pitch cents).
+	Range []float64 `toml:"range"`
+	// Increment, when set, quantises draws to min + k·Increment.
+	Increment float64 `toml:"increment"`
+	// Mode: shift "circular"|"zero"; filter "lowpass"|"highpass"|"bandpass"|"telephone";
+	// noise colour "white"|"pink"|"brown"|"any".
+	Mode string `toml:"mode"`
+	// Order of a Butterworth filter (0 = one RBJ biquad).
+	Order int `toml:"order"`
+	// Q of an RBJ biquad (default 1/√2).
+	Q float64 `toml:"q"`
+	// Weighting of the SNR measurement: "" or "none" (mean square), "A".
+	Weighting string `toml:"weighting"`
+	// Files are measured impulse responses for kind "ir".
+	Files []string `toml:"files"`
+	// Nonphysical must be true to use tempo or pitch, which break machine
+	// physics (harmonics no longer move together with speed).
+	Nonphysical bool `toml:"nonphysical"`
+}
