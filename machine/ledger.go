@@ -20,6 +20,9 @@ const (
 	LabelAnomalous = "anomalous"
 )
 
+// ToolVersion is written into every ledger line.
+const ToolVersion = "thrum 0.1.0"
+
 // Ledger line kinds.
 const (
 	EntryOutput   = "output"
@@ -30,6 +33,8 @@ const (
 // redo one output, or the reason a variant was not written.
 type Entry struct {
 	Kind string `json:"kind"` // "output" or "rejected"
+	// Stage is the stage that wrote the line: expand, faults or features.
+	Stage string `json:"stage"`
 	// Path is the output file, relative to the output root, slash-separated.
 	Path   string `json:"path,omitempty"`
 	SHA256 string `json:"sha256,omitempty"`
@@ -58,11 +63,14 @@ type Entry struct {
 	// (1 when none was needed).
 	Scale float64 `json:"scale"`
 	// Backgrounds lists the background ids mixed into this output.
-	Backgrounds []string       `json:"backgrounds,omitempty"`
-	Fault       *FaultRecord   `json:"fault,omitempty"`
-	Reason      string         `json:"reason,omitempty"`
-	Tool        string         `json:"tool"`
-	Extra       map[string]any `json:"extra,omitempty"`
+	Backgrounds []string     `json:"backgrounds,omitempty"`
+	Fault       *FaultRecord `json:"fault,omitempty"`
+	Reason      string       `json:"reason,omitempty"`
+	// Draw is a hash of the drawn steps: a rerun reuses an output only when
+	// its draw, seed and file hash all match.
+	Draw  string         `json:"draw,omitempty"`
+	Tool  string         `json:"tool"`
+	Extra map[string]any `json:"extra,omitempty"`
 }
 
 // StepRecord is one applied transform with its exact drawn parameters.

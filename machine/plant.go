@@ -1,5 +1,7 @@
 package machine
 
+import "fmt"
+
 // Plant is the decoded plant.toml: the site, its machines, rooms, microphone
 // zones, background recordings and recipes. Load fills it and validates it;
 // the zero value is not usable.
@@ -25,6 +27,8 @@ type Plant struct {
 	Zones       []Zone       `toml:"zone"`
 	Backgrounds []Background `toml:"background"`
 	Recipes     []Recipe     `toml:"recipe"`
+	// Features configures the features stage for every machine.
+	Features *FeatureConfig `toml:"features"`
 
 	// Path is the file the plant was loaded from (not a TOML key).
 	Path string `toml:"-"`
@@ -60,6 +64,41 @@ type Machine struct {
 	Gears      []GearStage `toml:"gear"`
 	Conditions []Condition `toml:"condition"`
 	Faults     *FaultPlan  `toml:"faults"`
+	// Features overrides the plant's feature settings for this machine
+	// (keys given here replace the plant's).
+	Features *FeatureConfig `toml:"features"`
+}
+
+// FeatureConfig sets the features stage. Zero values mean the defaults of
+// package features (n_fft 1024, hop 512, 128 HTK bands, unit-peak triangles,
+// 0 Hz … fs/2, no centre padding, log-mel in dB).
+type FeatureConfig struct {
+	NFFT   int     `toml:"n_fft"`
+	Hop    int     `toml:"hop"`
+	Bands  int     `toml:"bands"`
+	Scale  string  `toml:"scale"` // "htk" or "slaney"
+	Norm   string  `toml:"norm"`  // "peak" or "area"
+	FMin   float64 `toml:"fmin"`
+	FMax   float64 `toml:"fmax"`
+	Center *bool   `toml:"center"`
+	// EnvelopeHz is the band [lo, hi] Hz of the envelope spectrum (default:
+	// the machine's fault-plan resonance range, else 2000 … 5000 Hz capped
+	// below Nyquist); EnvelopeMaxHz the highest envelope frequency kept
+	// (default 1000 Hz).
+	EnvelopeHz    []float64 `toml:"envelope_hz"`
+	EnvelopeMaxHz float64   `toml:"envelope_max_hz"`
+	// Masked copies of each training clip's features (SpecAugment-style).
+	MaskCopies *int     `toml:"mask_copies"`
+	MaskF      *int     `toml:"mask_f"`
+	MaskMF     *int     `toml:"mask_m_f"`
+	MaskT      *int     `toml:"mask_t"`
+	MaskP      *float64 `toml:"mask_p"`
+	MaskMT     *int     `toml:"mask_m_t"`
+	MaskValue  string   `toml:"mask_value"` // "mean" or "zero"
+	// Stack also writes one stacked array per machine and split.
+	Stack *bool `toml:"stack"`
+	// Pictures writes PNG spectrograms and an envelope picture per machine.
+	Pictures *bool `toml:"pictures"`
 }
 
 // Condition is an operating condition of one machine.
@@ -116,7 +155,7 @@ type Room struct {
 	Size []float64 `toml:"size"`
 	// Absorption is the energy absorption coefficient per wall, in the
 	// order x=0, x=Lx, y=0, y=Ly, floor, ceiling; one value means all six.
-	Absorption []float64 `toml:"absorption"`
+	Absorption Walls `toml:"absorption"`
 	// OctaveAbsorption optionally gives per-wall absorption per octave band,
 	// keyed by band centre ("125" ... "4000"), six values each.
 	OctaveAbsorption map[string][]float64 `toml:"octave_absorption"`
@@ -175,4 +214,39 @@ type Step struct {
 	// Nonphysical must be true to use tempo or pitch, which break machine
 	// physics (harmonics no longer move together with speed).
 	Nonphysical bool `toml:"nonphysical"`
+}
+
+// Walls holds one value per wall; in TOML it may be a single number (all six
+// walls alike) or an array.
+type Walls []float64
+
+// UnmarshalTOML accepts a number or an array of numbers.
+func (w *Walls) UnmarshalTOML(v any) error {
+	num := func(x any) (float64, bool) {
+		switch n := x.(type) {
+		case int64:
+			return float64(n), true
+		case float64:
+			return n, true
+		}
+		return 0, false
+	}
+	if x, ok := num(v); ok {
+		*w = Walls{x}
+		return nil
+	}
+	arr, ok := v.([]any)
+	if !ok {
+		return fmt.Errorf("expected a number or an array of numbers, got %T", v)
+	}
+	out := make(Walls, len(arr))
+	for i, e := range arr {
+		x, ok := num(e)
+		if !ok {
+			return fmt.Errorf("element %d: expected a number, got %T", i, e)
+		}
+		out[i] = x
+	}
+	*w = out
+	return nil
 }

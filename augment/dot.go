@@ -1,0 +1,37 @@
+package augment
+
+import (
+	"math"
+	"unsafe"
+)
+
+// dot4Lanes is the portable form of dot4. For each output it keeps eight
+// lanes (two blocks of four), reduces them pairwise in a fixed order and
+// uses fused multiply-adds, exactly as the AVX2 kernel does.
+func dot4Lanes(h, x *[4]*float64, n int, out *[4]float64) {
+	for k := 0; k < 4; k++ {
+		hs := unsafe.Slice(h[k], n)
+		xs := unsafe.Slice(x[k], n)
+		var l [8]float64
+		for i := 0; i+8 <= n; i += 8 {
+			hh := hs[i : i+8 : i+8]
+			xx := xs[i : i+8 : i+8]
+			for j := range l {
+				l[j] = math.FMA(hh[j], xx[j], l[j])
+			}
+		}
+		y0, y1, y2, y3 := l[0]+l[4], l[1]+l[5], l[2]+l[6], l[3]+l[7]
+		out[k] = (y0 + y2) + (y1 + y3)
+	}
+}
+
+// dot4sLanes is dot4Lanes with one shared row h and four windows of x
+// xstride apart.
+func dot4sLanes(h, x *float64, xstride, n int, out *[4]float64) {
+	xp := unsafe.Slice(x, 3*xstride+n)
+	var hp, ws [4]*float64
+	for k := range hp {
+		hp[k], ws[k] = h, &xp[k*xstride]
+	}
+	dot4Lanes(&hp, &ws, n, out)
+}

@@ -1,0 +1,9 @@
+//go:build !amd64 || purego
+
+package augment
+
+// dot4 sets out[k] = Σ_{i<n} h[k][i]·x[k][i]; n is a multiple of 8.
+func dot4(h, x *[4]*float64, n int, out *[4]float64) { dot4Lanes(h, x, n, out) }
+
+// dot4s sets out[k] = Σ_{i<n} h[i]·x[k·xstride+i] for k = 0..3.
+func dot4s(h, x *float64, xstride, n int, out *[4]float64) { dot4sLanes(h, x, xstride, n, out) }

@@ -1,0 +1,606 @@
+package augment
+
+import (
+	"bytes"
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"hash/fnv"
+	"os"
+	"path"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"strings"
+	"sync"
+
+	"thrum/augment/room"
+	"thrum/machine"
+	"thrum/machine/wavio"
+)
+
+// Event reports progress of a stage. Progress callbacks are called from one
+// goroutine at a time (never concurrently), in completion order.
+type Event struct {
+	Stage   string
+	Machine string
+	// Done and Total count work items: source recordings, or files for the
+	// features stage (Unit says which).
+	Done, Total int
+	Unit        string
+	// Written and Rejected count outputs so far.
+	Written, Rejected int
+	// Path is the recording just finished.
+	Path string
+}
+
+// Shard selects a deterministic share of the work: job j (a machine and
+// recording) belongs to shard I of N when a hash of its key is I modulo N.
+type Shard struct{ I, N int }
+
+// Has reports whether the shard owns a work key.
+func (s Shard) Has(key string) bool {
+	if s.N <= 1 {
+		return true
+	}
+	h := fnv.New64a()
+	h.Write([]byte(key))
+	return int(h.Sum64()%uint64(s.N)) == s.I
+}
+
+// Options configure the expand and faults stages. The zero value writes
+// nothing useful: Out is required.
+type Options struct {
+	// Out is the output root; it must not be inside the recordings root.
+	Out string
+	// Workers is the number of clips processed at once (0 = all cores).
+	Workers int
+	// Encoding of the written clips (0 = 16-bit PCM).
+	Encoding wavio.Encoding
+	// Backgrounds are the ids of the background files a training variant may
+	// mix in: the training share of the background partition. Nil means
+	// every declared background (only safe when no split is made).
+	Backgrounds []string
+	// Shard limits the work to one shard (zero value: everything).
+	Shard Shard
+	// Progress, when set, is called after each recording (see Event).
+	Progress func(Event)
+}
+
+// Summary counts what a stage did per machine id.
+type Summary struct {
+	Machine   string
+	Clips     int
+	Written   int // outputs written or verified this run
+	Reused    int // outputs already present with matching ledger entry and hash
+	Rejected  map[string]int
+	Faults    map[string]int
+	Recorded  int
+	Augmented int
+}
+
+// Expand runs the expand stage: every usable recording's clips are written
+// as recorded outputs, and each clip of a normal, non-hold-out condition gets
+// its recipe's variants. A rerun verifies and skips outputs whose ledger
+// entry and file hash match, so an interrupted run resumes to the same result.
+func Expand(ctx context.Context, inv *machine.Inventory, opt Options) ([]Summary, error) {
+	return runStage(ctx, inv, opt, "expand")
+}
+
+type job struct {
+	index int
+	rec   *machine.Recording
+	m     *machine.Machine
+	c     *machine.Condition
+}
+
+type jobResult struct {
+	job     job
+	entries []machine.Entry
+	reused  int
+	err     error
+}
+
+func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage string) ([]Summary, error) {
+	p := inv.Plant
+	if opt.Out == "" {
+		return nil, errors.New("augment: no output folder")
+	}
+	if err := CheckOutput(p, opt.Out); err != nil {
+		return nil, err
+	}
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	envs := map[string]*env{}
+	var jobs []job
+	for _, r := range inv.Recordings {
+		if !r.Usable() {
+			continue
+		}
+		m := p.Machine(r.Machine)
+		if !opt.Shard.Has(r.Machine + "/" + r.Rel) {
+			continue
+		}
+		if envs[m.ID] == nil {
+			e, err := newEnv(p, m, opt)
+			if err != nil {
+				return nil, err
+			}
+			envs[m.ID] = e
+		}
+		jobs = append(jobs, job{index: len(jobs), rec: r, m: m, c: m.Condition(r.Condition)})
+	}
+	// previous entries, for resuming
+	for id, e := range envs {
+		old, err := machine.LoadLedger(filepath.Join(opt.Out, id))
+		if err != nil {
+			return nil, err
+		}
+		e.previous = map[string]machine.Entry{}
+		for _, x := range old {
+			if x.Stage == stage {
+				e.previous[entryKey(x)] = x
+			}
+		}
+		j, err := machine.OpenJournal(filepath.Join(opt.Out, id), journalName(stage, opt.Shard))
+		if err != nil {
+			return nil, err
+		}
+		e.journal = j
+		defer j.Close()
+	}
+
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	in := make(chan job)
+	out := make(chan jobResult)
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for j := range in {
+				e := envs[j.m.ID]
+				var r jobResult
+				if stage == "faults" {
+					r = e.faultJob(ctx, j)
+				} else {
+					r = e.expandJob(ctx, j)
+				}
+				select {
+				case out <- r:
+				case <-ctx.Done():
+					return
+				}
+			}
+		}()
+	}
+	go func() {
+		defer close(in)
+		for _, j := range jobs {
+			select {
+			case in <- j:
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	go func() { wg.Wait(); close(out) }()
+
+	results := make([][]machine.Entry, len(jobs))
+	sums := map[string]*Summary{}
+	var firstErr error
+	done, written, rejected := 0, 0, 0
+	for r := range out {
+		if r.err != nil {
+			if firstErr == nil {
+				firstErr = r.err
+				cancel()
+			}
+			continue
+		}
+		results[r.job.index] = r.entries
+		s := sums[r.job.m.ID]
+		if s == nil {
+			s = &Summary{Machine: r.job.m.ID, Rejected: map[string]int{}, Faults: map[string]int{}}
+			sums[r.job.m.ID] = s
+		}
+		s.Clips += len(r.job.rec.Clips)
+		s.Reused += r.reused
+		for _, e := range r.entries {
+			if e.Kind == machine.EntryRejected {
+				s.Rejected[e.Reason]++
+				rejected++
+				continue
+			}
+			s.Written++
+			written++
+			switch e.Origin {
+			case machine.OriginRecorded:
+				s.Recorded++
+			case machine.OriginAugmented:
+				s.Augmented++
+			case machine.OriginSyntheticFault:
+				s.Faults[e.Fault.Kind]++
+			}
+		}
+		done++
+		if opt.Progress != nil {
+			opt.Progress(Event{Stage: stage, Machine: r.job.m.ID, Done: done, Total: len(jobs), Unit: "recordings", Written: written, Rejected: rejected, Path: r.job.rec.Rel})
+		}
+	}
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	if err := ctx.Err(); err != nil && done < len(jobs) {
+		return nil, err
+	}
+	// commit each machine's section in job order
+	byMachine := map[string][]machine.Entry{}
+	for i, j := range jobs {
+		byMachine[j.m.ID] = append(byMachine[j.m.ID], results[i]...)
+	}
+	var ids []string
+	for id := range envs {
+		ids = append(ids, id)
+	}
+	sort.Strings(ids)
+	var out2 []Summary
+	for _, id := range ids {
+		envs[id].journal.Close()
+		if err := commit(opt, envs[id].m, stage, byMachine[id]); err != nil {
+			return nil, err
+		}
+		if s := sums[id]; s != nil {
+			out2 = append(out2, *s)
+		}
+	}
+	return out2, nil
+}
+
+func journalName(stage string, s Shard) string {
+	if s.N > 1 {
+		return fmt.Sprintf("%s-%d-of-%d", stage, s.I, s.N)
+	}
+	return stage
+}
+
+// commit writes the stage's section: the whole ledger when unsharded, a
+// ledger part when sharded (joined later by MergeShards).
+func commit(opt Options, m *machine.Machine, stage string, entries []machine.Entry) error {
+	SortEntries(m, entries)
+	dir := filepath.Join(opt.Out, m.ID)
+	if opt.Shard.N <= 1 {
+		return machine.CommitStage(dir, stage, entries)
+	}
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	for i := range entries {
+		if err := enc.Encode(&entries[i]); err != nil {
+			return err
+		}
+	}
+	name := fmt.Sprintf("part-%s-%d-of-%d.jsonl", stage, opt.Shard.I, opt.Shard.N)
+	if err := machine.WriteFileAtomic(filepath.Join(dir, "parts", name), buf.Bytes()); err != nil {
+		return err
+	}
+	return os.Remove(filepath.Join(dir, ".journal-"+journalName(stage, opt.Shard)+".jsonl"))
+}
+
+func entryKey(e machine.Entry) string {
+	return fmt.Sprintf("%s|%d|%s|%d|%s", e.Source, e.Clip, e.Origin, e.Variant, faultKind(e))
+}
+
+func faultKind(e machine.Entry) string {
+	if e.Fault != nil {
+		return e.Fault.Kind
+	}
+	return ""
+}
+
+// CheckOutput refuses an output folder that is, or is inside, the recordings
+// root (sources are never written), or that contains it.
+func CheckOutput(p *machine.Plant, out string) error {
+	ao, err1 := filepath.Abs(out)
+	ar, err2 := filepath.Abs(p.RecordingsRoot())
+	if err1 != nil || err2 != nil {
+		return fmt.Errorf("augment: cannot resolve %s", out)
+	}
+	ao, ar = filepath.Clean(ao), filepath.Clean(ar)
+	if ao == ar || strings.HasPrefix(ao, ar+string(filepath.Separator)) {
+		return fmt.Errorf("augment: output folder %s is inside the recordings root %s; choose a folder outside it", out, p.RecordingsRoot())
+	}
+	if strings.HasPrefix(ar, ao+string(filepath.Separator)) {
+		return fmt.Errorf("augment: output folder %s contains the recordings root %s; choose a folder beside it", out, p.RecordingsRoot())
+	}
+	return nil
+}
+
+// stem turns a recording's path inside its condition folder into a file
+// name stem: folders joined with "--", unsafe characters replaced.
+func stem(r *machine.Recording) string {
+	rel := strings.TrimPrefix(r.Rel, r.Machine+"/"+r.Condition+"/")
+	rel = strings.TrimPrefix(rel, machine.AnomalousDir+"/")
+	rel = strings.TrimSuffix(rel, path.Ext(rel))
+	var b strings.Builder
+	for _, c := range rel {
+		switch {
+		case c == '/':
+			b.WriteString("--")
+		case c >= 'a' && c <= 'z', c >= 'A' && c <= 'Z', c >= '0' && c <= '9', c == '-', c == '_', c == '.':
+			b.WriteRune(c)
+		default:
+			b.WriteByte('_')
+		}
+	}
+	return b.String()
+}
+
+// env is the per-machine state shared by workers: read-only after newEnv
+// except for the lazily filled caches, which are guarded.
+type env struct {
+	p        *machine.Plant
+	m        *machine.Machine
+	opt      Options
+	fs       float64
+	holdOut  [][2]float64
+	bgIDs    []string
+	bgFrames map[string]int64
+	previous map[string]machine.Entry
+	journal  *machine.Journal
+
+	plans *Plans
+
+	mu   sync.Mutex
+	bg   map[string][]float64
+	irs  map[string]*irEntry
+	room *room.Room
+	mics [][3]float64
+}
+
+type irEntry struct {
+	once   sync.Once
+	reverb room.Reverb
+	rt60   float64
+	err    error
+}
+
+func newEnv(p *machine.Plant, m *machine.Machine, opt Options) (*env, error) {
+	e := &env{p: p, m: m, opt: opt, fs: float64(p.SampleRate), holdOut: HoldOutBands(m),
+		bgFrames: map[string]int64{}, bg: map[string][]float64{}, irs: map[string]*irEntry{}, plans: &Plans{}}
+	allowed := opt.Backgrounds
+	if allowed == nil {
+		for _, b := range p.Backgrounds {
+			allowed = append(allowed, b.ID)
+		}
+	}
+	for _, id := range allowed {
+		for _, b := range p.Backgrounds {
+			if b.ID != id || (b.Room != "" && m.Room != "" && b.Room != m.Room) {
+				continue
+			}
+			a, err := wavio.ReadFile(p.Resolve(b.Path))
+			if err != nil {
+				return nil, fmt.Errorf("augment: background %s: %w", b.ID, err)
+			}
+			if a.Format.SampleRate != p.SampleRate {
+				return nil, fmt.Errorf("augment: background %s (%s): sample rate %d Hz, the plant's working rate is %d Hz", b.ID, b.Path, a.Format.SampleRate, p.SampleRate)
+			}
+			e.bg[id] = a.Mono(nil)
+			e.bgFrames[id] = int64(a.Frames)
+			e.bgIDs = append(e.bgIDs, id)
+		}
+	}
+	sort.Strings(e.bgIDs)
+	if m.Room != "" {
+		pr := p.Room(m.Room)
+		rr, err := toRoom(pr)
+		if err != nil {
+			return nil, fmt.Errorf("augment: machine %s: %w", m.ID, err)
+		}
+		e.room = &rr
+		if z := p.Zone(m.Zone); z != nil {
+			rng := NewRand(VariantSeed(p.Seed, m.ID, "", 0, 0, "microphone-pool"))
+			var lo, hi [3]float64
+			copy(lo[:], z.Min)
+			copy(hi[:], z.Max)
+			for i := 0; i < DefaultMicPositions; i++ {
+				e.mics = append(e.mics, room.DrawPoint(rng, lo, hi))
+			}
+		}
+	}
+	return e, nil
+}
+
+func toRoom(pr *machine.Room) (room.Room, error) {
+	var r room.Room
+	copy(r.Size[:], pr.Size)
+	copy(r.Absorption[:], pr.Absorption)
+	if len(pr.OctaveAbsorption) > 0 {
+		r.Octave = map[int][6]float64{}
+		for k, v := range pr.OctaveAbsorption {
+			var f int
+			fmt.Sscan(k, &f)
+			var w [6]float64
+			copy(w[:], v)
+			r.Octave[f] = w
+		}
+	}
+	if pr.TemperatureC != nil {
+		r.TemperatureC = *pr.TemperatureC
+	}
+	return r, r.Validate()
+}
+
+func drawHash(steps []machine.StepRecord) string {
+	b, _ := json.Marshal(steps)
+	s := sha256.Sum256(b)
+	return hex.EncodeToString(s[:8])
+}
+
+// reusable returns a previous entry when it still describes this output and
+// its file on disk hashes to the recorded value.
+func (e *env) reusable(want machine.Entry) (machine.Entry, bool) {
+	old, ok := e.previous[entryKey(want)]
+	if !ok || old.Seed != want.Seed || old.Draw != want.Draw || old.SourceSHA256 != want.SourceSHA256 {
+		return machine.Entry{}, false
+	}
+	if old.Kind == machine.EntryRejected {
+		return old, true
+	}
+	if old.Path != want.Path {
+		return machine.Entry{}, false
+	}
+	sum, err := machine.HashFile(filepath.Join(e.opt.Out, filepath.FromSlash(old.Path)))
+	if err != nil || sum != old.SHA256 {
+		return machine.Entry{}, false
+	}
+	return old, true
+}
+
+// write encodes x, writes it atomically under Out and returns its sha256.
+func (e *env) write(rel string, x []float64) (string, error) {
+	enc := e.opt.Encoding
+	if enc == 0 {
+		enc = wavio.PCM16
+	}
+	var buf bytes.Buffer
+	buf.Grow(len(x)*3 + 64)
+	if err := wavio.Encode(&buf, x, e.p.SampleRate, 1, enc); err != nil {
+		return "", err
+	}
+	if err := machine.WriteFileAtomic(filepath.Join(e.opt.Out, filepath.FromSlash(rel)), buf.Bytes()); err != nil {
+		return "", err
+	}
+	s := sha256.Sum256(buf.Bytes())
+	return hex.EncodeToString(s[:]), nil
+}
+
+func (e *env) base(r *machine.Recording, c machine.Clip) machine.Entry {
+	return machine.Entry{
+		Kind: machine.EntryOutput, Source: r.Rel, SourceSHA256: r.SHA256, Clip: c.Index,
+		ClipStart: c.Start, ClipFrames: c.Frames, Machine: r.Machine, Condition: r.Condition,
+		Label: r.Label, Group: r.Group, SampleRate: e.p.SampleRate, Speed: 1, Scale: 1, Tool: machine.ToolVersion,
+	}
+}
+
+func (e *env) expandJob(ctx context.Context, j job) jobResult {
+	res := jobResult{job: j}
+	r := j.rec
+	recipe := e.p.RecipeFor(j.m, j.c)
+	augmentable := r.Label == machine.LabelNormal && !j.c.HoldOut && recipe != nil
+	st := stem(r)
+	folder := "recorded"
+	if r.Label == machine.LabelAnomalous {
+		folder = "anomalous"
+	}
+	scratch := &workspace{}
+	err := r.ReadClips(func(c machine.Clip, x []float64) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		ent := e.base(r, c)
+		ent.Stage = "expand"
+		ent.Origin = machine.OriginRecorded
+		ent.Variant = -1
+		ent.Seed = 0
+		ent.Path = fmt.Sprintf("%s/%s/%s/%s-c%04d.wav", r.Machine, r.Condition, folder, st, c.Index)
+		if old, ok := e.reusable(ent); ok {
+			res.entries = append(res.entries, old)
+			res.reused++
+		} else {
+			sum, err := e.write(ent.Path, x)
+			if err != nil {
+				return err
+			}
+			ent.SHA256 = sum
+			if err := e.journal.Append(ent); err != nil {
+				return err
+			}
+			res.entries = append(res.entries, ent)
+		}
+		if !augmentable {
+			return nil
+		}
+		for v := 0; v < recipe.Variants; v++ {
+			ent, y := e.variant(scratch, j, recipe, c, x, v, st)
+			if old, ok := e.reusable(ent); ok {
+				res.entries = append(res.entries, old)
+				res.reused++
+				continue
+			}
+			if y == nil {
+				y, ent = e.render(scratch, j, recipe, c, x, v, st)
+			}
+			if ent.Kind == machine.EntryOutput {
+				sum, err := e.write(ent.Path, y)
+				if err != nil {
+					return err
+				}
+				ent.SHA256 = sum
+			}
+			if err := e.journal.Append(ent); err != nil {
+				return err
+			}
+			res.entries = append(res.entries, ent)
+		}
+		return nil
+	})
+	if err != nil {
+		res.err = fmt.Errorf("augment: %s: %w", r.Rel, err)
+	}
+	return res
+}
+
+// variant draws variant v of a clip and returns its ledger entry as far as
+// the draw determines it (no samples computed: the second result is nil).
+func (e *env) variant(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) (machine.Entry, []float64) {
+	r := j.rec
+	seed := VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "variant")
+	drawn := Draw(recipe, NewRand(seed), e.drawContext(j, c))
+	recs := make([]machine.StepRecord, len(drawn))
+	for i := range drawn {
+		recs[i] = drawn[i].Record
+	}
+	ent := e.base(r, c)
+	ent.Stage = "expand"
+	ent.Origin = machine.OriginAugmented
+	ent.Variant = v
+	ent.Seed = seed
+	ent.Draw = drawHash(recs)
+	ent.Path = fmt.Sprintf("%s/%s/augmented/%s-c%04d-v%02d.wav", r.Machine, r.Condition, st, c.Index, v)
+	return ent, nil
+}
+
+func (e *env) drawContext(j job, c machine.Clip) DrawContext {
+	return DrawContext{Machine: j.m, Condition: j.c, HoldOutBands: e.holdOut,
+		Backgrounds: e.bgIDs, BackgroundFrames: e.bgFrames, MicPositions: len(e.mics), ClipFrames: c.Frames}
+}
+
+// render computes variant v of a clip: the samples and the complete entry
+// (measured values, clip-protection scale, or the rejection reason).
+func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) ([]float64, machine.Entry) {
+	ent, _ := e.variant(ws, j, recipe, c, x, v, st)
+	drawn := Draw(recipe, NewRand(ent.Seed), e.drawContext(j, c))
+	y, applied, reason := e.apply(ws, x, drawn, j.c)
+	ent.Steps = applied
+	ent.Speed = SpeedOf(applied)
+	for _, s := range applied {
+		if s.Kind == "background" && s.Text["background"] != "synthesised" {
+			ent.Backgrounds = append(ent.Backgrounds, s.Text["background"])
+		}
+	}
+	if reason != "" {
+		ent.Kind = machine.EntryRejected
+		ent.Reason = reason
+		ent.Path = ""
+		return nil, ent
+	}
+	ent.Scale = Protect(y)
+	return y, ent
+}

@@ -1,0 +1,247 @@
+package augment
+
+import (
+	"fmt"
+	"math"
+
+	"thrum/augment/room"
+	"thrum/machine"
+	"thrum/machine/wavio"
+)
+
+// Rejection reasons recorded in the ledger by the credibility guard.
+const (
+	RejectSpeedBand = "speed-outside-band"
+	RejectHoldOut   = "speed-in-hold-out-band"
+	RejectSNR       = "snr-outside-range"
+	RejectRT60      = "rt60-outside-room-range"
+	RejectSilent    = "silent-output"
+	RejectIR        = "impulse-response-unusable"
+)
+
+// workspace holds a worker's reusable buffers.
+type workspace struct {
+	a, b []float64
+}
+
+// apply runs the drawn steps in order on a copy of x and checks the result
+// against the credibility guard. It returns the output, the step records
+// with values measured while applying (re-measured SNR, RT60, gains), and a
+// rejection reason ("" when the variant is credible).
+func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condition) ([]float64, []machine.StepRecord, string) {
+	cur := append(ws.a[:0], x...)
+	ws.a = cur
+	recs := make([]machine.StepRecord, 0, len(drawn))
+	reason := ""
+	for _, d := range drawn {
+		rec := cloneRecord(d.Record)
+		var out []float64
+		switch rec.Kind {
+		case "speed":
+			ratio := rec.Params["ratio"]
+			lo, hi := 1-c.BandPercent/100, 1+c.BandPercent/100
+			if ratio < lo-1e-12 || ratio > hi+1e-12 {
+				reason = RejectSpeedBand
+			}
+			for _, b := range e.holdOut {
+				if rpm := c.RPM * ratio; rpm >= b[0] && rpm <= b[1] {
+					reason = RejectHoldOut
+				}
+			}
+			out = Speed{Ratio: ratio, Plans: e.plans}.Apply(ws.spare(cur), cur, e.fs)
+		case "gain":
+			out = Gain{DB: rec.Params["db"]}.Apply(ws.spare(cur), cur, e.fs)
+		case "invert":
+			out = Invert{}.Apply(ws.spare(cur), cur, e.fs)
+		case "shift":
+			out = Shift{Seconds: rec.Params["ms"] / 1000, Circular: rec.Text["mode"] != "zero"}.Apply(ws.spare(cur), cur, e.fs)
+		case "filter":
+			out = Filter{Type: rec.Text["type"], Low: rec.Params["low_hz"], High: rec.Params["high_hz"],
+				Q: rec.Params["q"], Order: int(rec.Params["order"])}.Apply(ws.spare(cur), cur, e.fs)
+		case "noise":
+			w := weighting(rec.Text["weighting"])
+			target := rec.Params["snr_db"]
+			n := Noise{Colour: rec.Text["colour"], SNR: target, Weighting: w, Rand: NewRand(uint64(rec.Params["noise_seed"]))}
+			out = n.Apply(ws.spare(cur), cur, e.fs)
+			got := measuredSNR(cur, out, e.fs, w)
+			rec.Params["measured_snr_db"] = got
+			if !snrOK(got, target, d.Step.Range) {
+				reason = RejectSNR
+			}
+		case "background":
+			w := weighting(rec.Text["weighting"])
+			target := rec.Params["snr_db"]
+			var src []float64
+			if id := rec.Text["background"]; id == "synthesised" {
+				src = SynthPlantNoise(make([]float64, len(cur)), e.fs, NewRand(uint64(rec.Params["noise_seed"])))
+			} else {
+				src = e.bg[id]
+			}
+			bgT := Background{Source: src, SNR: target, Weighting: w, Offset: int(rec.Params["offset"]), CrossfadeSeconds: 0.25}
+			out = bgT.Apply(ws.spare(cur), cur, e.fs)
+			got := measuredSNR(cur, out, e.fs, w)
+			rec.Params["measured_snr_db"] = got
+			if !snrOK(got, target, d.Step.Range) {
+				reason = RejectSNR
+			}
+		case "room":
+			ir := e.roomIR(int(rec.Params["mic"]))
+			if ir.err != nil {
+				reason = RejectIR
+				out = append(ws.spare(cur), cur...)
+				break
+			}
+			mic := e.mics[int(rec.Params["mic"])]
+			rec.Params["mic_x"], rec.Params["mic_y"], rec.Params["mic_z"] = mic[0], mic[1], mic[2]
+			rec.Params["rt60_s"] = ir.rt60
+			pr := e.p.Room(e.m.Room)
+			if ir.rt60 < pr.RT60Range[0] || ir.rt60 > pr.RT60Range[1] || math.IsNaN(ir.rt60) {
+				reason = RejectRT60
+			}
+			out = ir.reverb.Apply(ws.spare(cur), cur, e.fs)
+		case "ir":
+			ir := e.fileIR(rec.Text["file"])
+			if ir.err != nil {
+				reason = RejectIR
+				out = append(ws.spare(cur), cur...)
+				break
+			}
+			rec.Params = map[string]float64{"rt60_s": ir.rt60}
+			out = ir.reverb.Apply(ws.spare(cur), cur, e.fs)
+		case "tempo":
+			out = Tempo{Factor: 1 + rec.Params["percent"]/100}.Apply(ws.spare(cur), cur, e.fs)
+		case "pitch":
+			out = Pitch{Cents: rec.Params["cents"]}.Apply(ws.spare(cur), cur, e.fs)
+		default:
+			panic("augment: unknown step kind " + rec.Kind)
+		}
+		ws.keep(cur, out)
+		cur = out
+		recs = append(recs, rec)
+	}
+	if reason == "" {
+		var peak float64
+		for _, v := range cur {
+			peak = math.Max(peak, math.Abs(v))
+		}
+		if peak == 0 {
+			reason = RejectSilent
+		}
+	}
+	return cur, recs, reason
+}
+
+// spare returns the buffer of the pair that cur is not, emptied.
+func (w *workspace) spare(cur []float64) []float64 {
+	if len(cur) > 0 && len(w.b) > 0 && &cur[0] == &w.b[0] {
+		return w.a[:0]
+	}
+	return w.b[:0]
+}
+
+// keep stores out back into the pair so its capacity is reused.
+func (w *workspace) keep(cur, out []float64) {
+	if len(cur) > 0 && len(w.b) > 0 && &cur[0] == &w.b[0] {
+		w.a = out
+	} else {
+		w.b = out
+	}
+}
+
+func cloneRecord(r machine.StepRecord) machine.StepRecord {
+	c := r
+	if r.Params != nil {
+		c.Params = make(map[string]float64, len(r.Params)+4)
+		for k, v := range r.Params {
+			c.Params[k] = v
+		}
+	}
+	if r.Text != nil {
+		c.Text = make(map[string]string, len(r.Text))
+		for k, v := range r.Text {
+			c.Text[k] = v
+		}
+	}
+	return c
+}
+
+func weighting(s string) Weighting {
+	if s == "A" {
+		return WeightA
+	}
+	return WeightNone
+}
+
+// measuredSNR re-measures a mix: the added component is out − in.
+func measuredSNR(in, out []float64, fs float64, w Weighting) float64 {
+	n := make([]float64, len(in))
+	for i := range n {
+		n[i] = out[i] - in[i]
+	}
+	return SNR(in, n, fs, w)
+}
+
+// snrOK: the re-measured SNR must match the target within 0.1 dB and the
+// target must lie inside the step's range.
+func snrOK(got, target float64, r []float64) bool {
+	return math.Abs(got-target) <= 0.1 && target >= r[0]-1e-9 && target <= r[1]+1e-9
+}
+
+func (e *env) roomIR(i int) *irEntry {
+	key := fmt.Sprintf("mic:%d", i)
+	e.mu.Lock()
+	ent := e.irs[key]
+	if ent == nil {
+		ent = &irEntry{}
+		e.irs[key] = ent
+	}
+	e.mu.Unlock()
+	ent.once.Do(func() {
+		if e.room == nil || i >= len(e.mics) {
+			ent.err = fmt.Errorf("augment: machine %s has no room and zone", e.m.ID)
+			return
+		}
+		var src [3]float64
+		copy(src[:], e.m.Position)
+		h, err := room.ImpulseResponse(nil, *e.room, src, e.mics[i], e.fs, room.Config{})
+		if err != nil {
+			ent.err = err
+			return
+		}
+		ent.rt60, err = room.T30(h, e.fs)
+		if err != nil {
+			ent.rt60 = math.NaN()
+		}
+		ent.reverb = room.NewReverb(h, e.fs)
+	})
+	return ent
+}
+
+func (e *env) fileIR(file string) *irEntry {
+	key := "file:" + file
+	e.mu.Lock()
+	ent := e.irs[key]
+	if ent == nil {
+		ent = &irEntry{}
+		e.irs[key] = ent
+	}
+	e.mu.Unlock()
+	ent.once.Do(func() {
+		a, err := wavio.ReadFile(e.p.Resolve(file))
+		if err != nil {
+			ent.err = err
+			return
+		}
+		if a.Format.SampleRate != e.p.SampleRate {
+			ent.err = fmt.Errorf("augment: impulse response %s: sample rate %d Hz, working rate %d Hz", file, a.Format.SampleRate, e.p.SampleRate)
+			return
+		}
+		h := room.UnitEnergy(a.Mono(nil))
+		ent.rt60, err = room.T30(h, e.fs)
+		if err != nil {
+			ent.rt60 = math.NaN()
+		}
+		ent.reverb = room.NewReverb(h, e.fs)
+	})
+	return ent
+}

@@ -1,0 +1,375 @@
+package augment
+
+import (
+	"fmt"
+	"math"
+	"sync"
+)
+
+// Stopband attenuation, transition band and table size of the speed-change
+// resampler. The passband ends at 0.9 of the lower Nyquist frequency and the
+// stopband starts at that Nyquist frequency, so a tone that would alias is
+// attenuated by at least 80 dB. The Kaiser formulas are evaluated for
+// designDB, a few dB beyond the guarantee: at the band edge the windowed
+// sinc falls a little short of the formula's estimate, and the padded
+// table has room for the longer kernel at no extra cost.
+const (
+	designDB    = 86.0
+	passEdge    = 0.9 // passband edge, fraction of the lower Nyquist frequency
+	interPhases = 512 // table phases for ratios that are not a small fraction
+	maxDenom    = 1000
+	maxPlans    = 64
+)
+
+// Speed changes the playback speed by Ratio: bandlimited resampling, so
+// pitch and tempo move together, as when the machine itself runs faster.
+// Ratio > 1 speeds up (shorter output, every line at Ratio times its
+// frequency). The output has round(len(x)/Ratio) samples. Plans, when
+// set, caches the resampler plan (about a millisecond to build) across
+// calls; otherwise each Apply builds one. dst may not alias x. Apply
+// panics if Ratio is not positive and finite.
+type Speed struct {
+	Ratio float64
+	Plans *Plans
+}
+
+// Apply implements Transform.
+func (s Speed) Apply(dst, x []float64, fs float64) []float64 {
+	if s.Plans != nil {
+		return s.Plans.Resampler(s.Ratio).Apply(dst, x)
+	}
+	return NewResampler(s.Ratio).Apply(dst, x)
+}
+
+// Plans caches resampler plans by ratio. It is safe for concurrent use;
+// the zero value is ready. It holds at most maxPlans plans (an exact-phase
+// plan for r = 1.03 takes 90 kB, an interpolated one about 460 kB) and
+// drops an arbitrary one when full, which costs only a rebuild: quantised
+// speed draws (a recipe Increment) keep the set small.
+type Plans struct {
+	mu sync.Mutex
+	m  map[float64]*Resampler
+}
+
+// Resampler returns the cached plan for ratio r, building it on first use.
+func (p *Plans) Resampler(r float64) *Resampler {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if rs, ok := p.m[r]; ok {
+		return rs
+	}
+	if p.m == nil {
+		p.m = make(map[float64]*Resampler)
+	}
+	if len(p.m) >= maxPlans {
+		for k := range p.m {
+			delete(p.m, k)
+			break
+		}
+	}
+	rs := NewResampler(r)
+	p.m[r] = rs
+	return rs
+}
+
+// Resampler is a polyphase Kaiser-windowed sinc plan for one speed ratio.
+// It is read-only after construction, so one plan may be shared by several
+// goroutines.
+type Resampler struct {
+	ratio float64
+	// Rational ratios p/q with q ≤ maxDenom use exact phases: output sample
+	// m sits at input position m·p/q, phase (m·p mod q).
+	p, q int
+	// taps per phase, and offset: the first tap of output at input
+	// position i0+φ reads x[i0-off].
+	taps, off int
+	// table holds phases rows of taps coefficients, row-major. For the
+	// interpolated (irrational) case it has interPhases+1 rows.
+	table  []float64
+	phases int
+}
+
+// NewResampler builds the plan for speed ratio r (output length
+// round(n/r)). It panics if r is not positive and finite.
+func NewResampler(r float64) *Resampler {
+	if !(r > 0) || math.IsInf(r, 0) {
+		panic(fmt.Sprintf("augment: speed ratio %v is not positive and finite", r))
+	}
+	rs := &Resampler{ratio: r}
+	// The lower of the two rates, as a fraction of the input rate.
+	scale := math.Min(1, 1/r)
+	// Cutoff midway through the transition band [passEdge, 1]·Nyquist, in
+	// cycles per input sample.
+	fc := 0.5 * scale * (1 + passEdge) / 2
+	// Transition width in radians per input sample.
+	dw := math.Pi * scale * (1 - passEdge)
+	beta := KaiserBeta(designDB)
+	// Oppenheim & Schafer Eq. (7.63): M = (A − 8)/(2.285·Δω).
+	m := (designDB - 8) / (2.285 * dw)
+	half := m / 2 // kernel half-width in input samples
+	rs.off = int(math.Ceil(half)) - 1
+	// Rows are padded with zeros to a multiple of 16 taps, the block size
+	// of the dot-product kernel.
+	rs.taps = (2*(rs.off+1) + 15) &^ 15
+
+	if p, q, ok := rational(r, maxDenom); ok {
+		rs.p, rs.q = p, q
+		rs.phases = q
+	} else {
+		rs.phases = interPhases
+	}
+	rows := rs.phases
+	if rs.q == 0 {
+		rows++
+	}
+	rs.table = make([]float64, rows*rs.taps)
+	i0b := besselI0(beta)
+	for ph := 0; ph < rows; ph++ {
+		phi := float64(ph) / float64(rs.phases)
+		row := rs.table[ph*rs.taps : (ph+1)*rs.taps]
+		for j := range row {
+			// Distance from the output instant to input sample i0-off+j.
+			t := phi + float64(rs.off-j)
+			row[j] = kaiserSinc(t, fc, half, beta, i0b)
+		}
+	}
+	return rs
+}
+
+// Ratio returns the plan's speed ratio.
+func (rs *Resampler) Ratio() float64 { return rs.ratio }
+
+// Len returns the output length for an input of n samples: round(n/r).
+func (rs *Resampler) Len(n int) int {
+	if rs.q != 0 {
+		// Exact integer rounding of n·q/p.
+		return (2*n*rs.q + rs.p) / (2 * rs.p)
+	}
+	return int(math.Round(float64(n) / rs.ratio))
+}
+
+// Apply resamples x into dst (nil or short dst allocates) and returns
+// dst[:Len(len(x))]. Samples outside x are taken as zero. dst may not
+// alias x. Apply does not allocate when dst is large enough.
+func (rs *Resampler) Apply(dst, x []float64) []float64 {
+	n := rs.Len(len(x))
+	if cap(dst) < n {
+		dst = make([]float64, n)
+	}
+	dst = dst[:n]
+	if rs.q != 0 {
+		rs.applyRational(dst, x)
+		return dst
+	}
+	var h, xp [4]*float64
+	var out [4]float64
+	taps := rs.taps
+	m := 0
+	for m < n {
+		// Up to four interior dot products per kernel call: four outputs
+		// at exact phases, or two outputs with two neighbouring phases
+		// each for the interpolated table.
+		k, cnt := 0, 0
+		var frac [2]float64
+		for k < 4 && m+cnt < n {
+			start, ph, a := rs.locate(m + cnt)
+			if start < 0 || start+taps > len(x) {
+				break
+			}
+			if rs.q != 0 {
+				h[k], xp[k] = &rs.table[ph*taps], &x[start]
+				k++
+			} else {
+				if k > 2 {
+					break
+				}
+				h[k], xp[k] = &rs.table[ph*taps], &x[start]
+				h[k+1], xp[k+1] = &rs.table[(ph+1)*taps], &x[start]
+				frac[k/2] = a
+				k += 2
+			}
+			cnt++
+		}
+		if cnt == 0 {
+			// Edge output: part of the kernel falls outside x.
+			start, ph, a := rs.locate(m)
+			v := dotEdge(rs.table[ph*taps:(ph+1)*taps], x, start)
+			if rs.q == 0 {
+				v += a * (dotEdge(rs.table[(ph+1)*taps:(ph+2)*taps], x, start) - v)
+			}
+			dst[m] = v
+			m++
+			continue
+		}
+		for j := k; j < 4; j++ {
+			h[j], xp[j] = h[0], xp[0]
+		}
+		dot4(&h, &xp, taps, &out)
+		if rs.q != 0 {
+			copy(dst[m:m+cnt], out[:cnt])
+		} else {
+			for j := 0; j < cnt; j++ {
+				v0, v1 := out[2*j], out[2*j+1]
+				dst[m+j] = v0 + frac[j]*(v1-v0)
+			}
+		}
+		m += cnt
+	}
+	return dst
+}
+
+// applyRational fills dst for an exact-phase plan. Outputs m, m+q, m+2q
+// and m+3q share a table row and read windows p samples apart, so one
+// kernel call computes all four.
+func (rs *Resampler) applyRational(dst, x []float64) {
+	n, taps, q := len(dst), rs.taps, rs.q
+	var out [4]float64
+	for base := 0; base < n; base += 4 * q {
+		s0, _, _ := rs.locate(base)
+		s1, _, _ := rs.locate(base + 4*q - 1)
+		if base+4*q > n || s0 < 0 || s1+taps > len(x) {
+			for m := base; m < n && m < base+4*q; m++ {
+				dst[m] = rs.one(x, m)
+			}
+			continue
+		}
+		// Step the read position and phase without dividing: each output
+		// advances the input position by p/q = dp + dq/q.
+		dp, dq := rs.p/q, rs.p%q
+		start, ph := s0, 0
+		d := dst[base : base+4*q]
+		for j := 0; j < q; j++ {
+			dot4s(&rs.table[ph*taps], &x[start], rs.p, taps, &out)
+			d[j], d[j+q], d[j+2*q], d[j+3*q] = out[0], out[1], out[2], out[3]
+			start += dp
+			if ph += dq; ph >= q {
+				ph -= q
+				start++
+			}
+		}
+	}
+}
+
+// one computes output m alone, with the same rounding as the grouped
+// kernels where the kernel lies inside x.
+func (rs *Resampler) one(x []float64, m int) float64 {
+	taps := rs.taps
+	start, ph, a := rs.locate(m)
+	if start < 0 || start+taps > len(x) {
+		v := dotEdge(rs.table[ph*taps:(ph+1)*taps], x, start)
+		if rs.q == 0 {
+			v += a * (dotEdge(rs.table[(ph+1)*taps:(ph+2)*taps], x, start) - v)
+		}
+		return v
+	}
+	var out [4]float64
+	h0, h1 := &rs.table[ph*taps], &rs.table[ph*taps]
+	if rs.q == 0 {
+		h1 = &rs.table[(ph+1)*taps]
+	}
+	h := [4]*float64{h0, h1, h0, h1}
+	xs := [4]*float64{&x[start], &x[start], &x[start], &x[start]}
+	dot4(&h, &xs, taps, &out)
+	if rs.q == 0 {
+		return out[0] + a*(out[1]-out[0])
+	}
+	return out[0]
+}
+
+// locate returns, for output sample m, the first input index the kernel
+// reads, the table phase and (interpolated table only) the fraction
+// between that phase and the next.
+func (rs *Resampler) locate(m int) (start, ph int, a float64) {
+	if rs.q != 0 {
+		num := m * rs.p
+		return num/rs.q - rs.off, num % rs.q, 0
+	}
+	t := float64(m) * rs.ratio
+	fi := math.Floor(t)
+	u := (t - fi) * interPhases
+	fu := math.Floor(u)
+	return int(fi) - rs.off, int(fu), u - fu
+}
+
+// dotEdge is Σ h[j]·x[start+j] with zeros outside x.
+func dotEdge(h, x []float64, start int) float64 {
+	var s float64
+	for j, c := range h {
+		if k := start + j; k >= 0 && k < len(x) {
+			s = math.FMA(c, x[k], s)
+		}
+	}
+	return s
+}
+
+// kaiserSinc is the Kaiser-windowed ideal low-pass impulse response with
+// cutoff fc (cycles per sample, unity gain at DC) at time t, window
+// half-width half samples.
+func kaiserSinc(t, fc, half, beta, i0beta float64) float64 {
+	if math.Abs(t) >= half {
+		return 0
+	}
+	u := t / half
+	w := besselI0(beta*math.Sqrt(1-u*u)) / i0beta
+	x := 2 * fc * t
+	s := 1.0
+	if x != 0 {
+		s = math.Sin(math.Pi*x) / (math.Pi * x)
+	}
+	return 2 * fc * s * w
+}
+
+// KaiserBeta returns the Kaiser window β for a stopband attenuation of
+// attDB decibels (Kaiser 1974; Oppenheim & Schafer, Discrete-Time Signal
+// Processing, 2nd ed., Eq. 7.62).
+func KaiserBeta(attDB float64) float64 {
+	switch {
+	case attDB > 50:
+		return 0.1102 * (attDB - 8.7)
+	case attDB >= 21:
+		return 0.5842*math.Pow(attDB-21, 0.4) + 0.07886*(attDB-21)
+	}
+	return 0
+}
+
+// besselI0 is the modified Bessel function of the first kind, order 0, by
+// its power series Σ ((x/2)^k / k!)², which converges quickly for the
+// arguments a Kaiser window needs (x ≤ ~20).
+func besselI0(x float64) float64 {
+	h := x / 2
+	sum, term := 1.0, 1.0
+	for k := 1; k < 200; k++ {
+		term *= h / float64(k)
+		t2 := term * term
+		sum += t2
+		if t2 < sum*1e-17 {
+			break
+		}
+	}
+	return sum
+}
+
+// rational reports r = p/q exactly in float64 terms (to 1e-12 relative)
+// with the smallest q ≤ maxQ.
+func rational(r float64, maxQ int) (p, q int, ok bool) {
+	for q = 1; q <= maxQ; q++ {
+		pf := math.Round(r * float64(q))
+		if pf < 1 || pf > 1<<30 {
+			continue
+		}
+		if math.Abs(pf/float64(q)-r) <= 1e-12*r {
+			p = int(pf)
+			if gcd(p, q) == 1 {
+				return p, q, true
+			}
+		}
+	}
+	return 0, 0, false
+}
+
+func gcd(a, b int) int {
+	for b != 0 {
+		a, b = b, a%b
+	}
+	return a
+}

@@ -1,0 +1,56 @@
+package room
+
+import (
+	"fmt"
+	"math"
+)
+
+// Reverb convolves signals with a room impulse response.
+type Reverb struct {
+	// IR is the impulse response; it must not be modified after NewReverb.
+	IR []float64
+	// Fs is the IR's sampling rate in Hz; zero skips the rate check.
+	Fs float64
+
+	conv *convolver // nil for a literal Reverb: Apply then builds one per call
+}
+
+// NewReverb returns a Reverb for ir sampled at fs Hz (0: unchecked) with the
+// FFT of ir computed once. The result is safe for concurrent use.
+func NewReverb(ir []float64, fs float64) Reverb {
+	return Reverb{IR: ir, Fs: fs, conv: newConvolver(ir)}
+}
+
+// Apply writes the causal convolution (IR * x) cut to len(x) into dst (nil
+// allocates; dst may be x itself, no other overlap) and returns it. fs is
+// the rate of x; Apply panics if it differs from a non-zero v.Fs, since
+// mixing rates is a caller error.
+func (v Reverb) Apply(dst, x []float64, fs float64) []float64 {
+	if v.Fs != 0 && fs != v.Fs {
+		panic(fmt.Sprintf("room: Reverb.Apply at %g Hz with an IR sampled at %g Hz", fs, v.Fs))
+	}
+	c := v.conv
+	if c == nil || c.m != len(v.IR) {
+		c = newConvolver(v.IR)
+	}
+	return c.apply(dst, x)
+}
+
+// UnitEnergy returns a copy of h scaled so that Σh² = 1 (for measured IR
+// files, whose level is arbitrary). An all-zero h is copied unchanged.
+func UnitEnergy(h []float64) []float64 {
+	out := make([]float64, len(h))
+	e := 0.0
+	for _, x := range h {
+		e += x * x
+	}
+	if e == 0 {
+		copy(out, h)
+		return out
+	}
+	s := 1 / math.Sqrt(e)
+	for i, x := range h {
+		out[i] = x * s
+	}
+	return out
+}

@@ -1,0 +1,132 @@
+package augment
+
+import (
+	"fmt"
+	"math"
+)
+
+// Tempo changes the tempo by Factor without changing pitch (Factor > 1 is
+// faster: output round(len(x)/Factor) samples) by WSOLA, waveform-similarity
+// overlap-add (Verhelst & Roelands 1993): 40 ms Hann frames at a 20 ms
+// synthesis hop, each taken from within ±10 ms of its nominal input
+// position where it best continues the previous frame (largest
+// cross-correlation with the previous frame's natural continuation over
+// one hop).
+//
+// NON-PHYSICAL: a real machine that runs faster raises every line with
+// its speed; Tempo changes the rate of events (impacts, modulation) while
+// keeping the lines where they were, so shaft orders, bearing tones and
+// event rates no longer agree. Use it only where that is wanted.
+// dst may not alias x. Apply panics if Factor is not positive and finite.
+type Tempo struct {
+	Factor float64
+}
+
+// Pitch shifts every frequency by Cents (1200 per octave) without
+// changing the duration: Tempo by 1/r, then Speed by r, r = 2^(Cents/1200),
+// trimmed or zero-padded to len(x).
+//
+// NON-PHYSICAL: harmonics move but the rate of events (shaft rotation,
+// impacts, modulation) does not, which no change of machine speed can
+// produce. dst may not alias x.
+type Pitch struct {
+	Cents float64
+}
+
+// Nonphysical reports whether t breaks machine physics (Tempo and Pitch),
+// which a recipe must allow explicitly.
+func Nonphysical(t Transform) bool {
+	switch t.(type) {
+	case Tempo, *Tempo, Pitch, *Pitch:
+		return true
+	}
+	return false
+}
+
+// Apply implements Transform.
+func (p Pitch) Apply(dst, x []float64, fs float64) []float64 {
+	r := math.Pow(2, p.Cents/1200)
+	st := Tempo{Factor: 1 / r}.Apply(nil, x, fs)
+	y := NewResampler(r).Apply(dst, st)
+	n := len(x)
+	if len(y) >= n {
+		return y[:n]
+	}
+	m := len(y)
+	y = append(y, make([]float64, n-m)...)
+	return y
+}
+
+// Apply implements Transform.
+func (t Tempo) Apply(dst, x []float64, fs float64) []float64 {
+	a := t.Factor
+	if !(a > 0) || math.IsInf(a, 0) {
+		panic(fmt.Sprintf("augment: tempo factor %v is not positive and finite", a))
+	}
+	n := len(x)
+	out := int(math.Round(float64(n) / a))
+	dst = grow(dst, out)
+	clear(dst)
+	hop := max(int(math.Round(0.02*fs)), 1)
+	frame := 2 * hop
+	tol := hop / 2
+	if n == 0 || out == 0 {
+		return dst
+	}
+	// Periodic Hann: frames at a half-frame hop sum to exactly 1.
+	win := make([]float64, frame)
+	for i := range win {
+		win[i] = 0.5 - 0.5*math.Cos(2*math.Pi*float64(i)/float64(frame))
+	}
+	at := func(i int) float64 {
+		if i < 0 || i >= n {
+			return 0
+		}
+		return x[i]
+	}
+	prev := 0 // input position of the previous frame
+	for k := 0; k*hop < out; k++ {
+		pos := 0
+		if k > 0 {
+			nominal := int(math.Round(float64(k*hop) * a))
+			lo, hi := nominal-tol, nominal+tol
+			if n >= frame {
+				lo, hi = max(lo, 0), min(hi, n-frame)
+			}
+			// Natural continuation of the previous frame, compared over
+			// the overlap (the first hop samples).
+			nat := prev + hop
+			best, bestC := nominal, math.Inf(-1)
+			if lo > hi {
+				best = min(max(nominal, 0), max(n-frame, 0))
+			}
+			for c := lo; c <= hi; c++ {
+				var s float64
+				if c >= 0 && nat >= 0 && c+hop <= n && nat+hop <= n {
+					xc, xn := x[c:c+hop], x[nat:nat+hop]
+					for i, v := range xc {
+						s += v * xn[i]
+					}
+				} else {
+					for i := 0; i < hop; i++ {
+						s += at(c+i) * at(nat+i)
+					}
+				}
+				if s > bestC {
+					best, bestC = c, s
+				}
+			}
+			pos = best
+		}
+		base := k * hop
+		for i := 0; i < frame && base+i < out; i++ {
+			w := win[i]
+			if k == 0 && i < hop {
+				w = 1 // nothing overlaps the first half-frame
+			}
+			dst[base+i] += w * at(pos+i)
+		}
+		prev = pos
+	}
+	return dst
+}

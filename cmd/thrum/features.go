@@ -1,0 +1,84 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"thrum/augment"
+	"thrum/features"
+	"thrum/machine"
+	"thrum/split"
+)
+
+func newFeaturesCmd(g *globals) *cobra.Command {
+	var o stageOptions
+	cmd := &cobra.Command{
+		Use:   "features PLANT.toml --out DIR",
+		Short: "Compute log-mel and envelope-spectrum features (.npy), train-only statistics and pictures",
+		Long: `features reads DIR/splits/lists.csv and writes, under DIR/features/: a float32 .npy log-mel
+array (frames × bands) per clip, its envelope spectrum, an index.csv (path, machine,
+condition, split, origin, label and per-clip statistics) so a training script loads a split
+with one csv read and np.load, masked copies of training clips (SpecAugment-style, logged in
+the ledger), normalisation statistics per machine fitted on training clips only, and PNG
+pictures. Excluded files get no features.`,
+		Args: exactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if o.Out == "" {
+				return &usageError{fmt.Errorf("--out is required")}
+			}
+			p, err := machine.Load(args[0])
+			if err != nil {
+				return err
+			}
+			sums, err := runFeatures(cmd.Context(), g, o, p)
+			if err != nil {
+				return err
+			}
+			for _, s := range sums {
+				fmt.Fprintf(g.stdout, "features %-14s files %5d  masked copies %5d  statistics from %d training clips\n", s.Machine, s.Files, s.Masked, s.StatsInputs)
+			}
+			return nil
+		},
+	}
+	cmd.Flags().StringVarP(&o.Out, "out", "o", "", "output root (required)")
+	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "files processed at once (0 = all cores)")
+	cmd.Flags().BoolVarP(&o.Quiet, "quiet", "q", false, "no progress output")
+	cmd.Flags().BoolVar(&o.JSON, "json", false, "progress as JSON lines on stdout")
+	return cmd
+}
+
+func runFeatures(ctx context.Context, g *globals, o stageOptions, p *machine.Plant) ([]features.StageSummary, error) {
+	rows, _, err := split.ReadSplits(o.Out)
+	if err != nil {
+		return nil, fmt.Errorf("features: %w (run split first)", err)
+	}
+	clips := map[string]int{}
+	for i := range p.Machines {
+		es, err := machine.ReadLedgerFile(filepath.Join(o.Out, p.Machines[i].ID, machine.LedgerName))
+		if err != nil {
+			return nil, err
+		}
+		for _, e := range es {
+			clips[e.Path] = e.Clip
+		}
+	}
+	var inputs []features.Input
+	for _, r := range rows {
+		if r.Split == split.Excluded {
+			continue
+		}
+		inputs = append(inputs, features.Input{Path: r.Path, SHA256: r.SHA256, Machine: r.Machine, Condition: r.Condition,
+			Split: r.Split, Origin: r.Origin, Label: r.Label, Source: r.Source, SourceSHA256: r.SourceSHA256, Group: r.Group,
+			Clip: clips[r.Path]})
+	}
+	rd := o.renderer(g)
+	sums, err := features.RunStage(ctx, p, inputs, features.StageOptions{Out: o.Out, Workers: o.Workers,
+		Progress: func(done, total int) {
+			rd.event(augment.Event{Stage: "features", Done: done, Total: total, Unit: "files"})
+		}})
+	rd.finish()
+	return sums, err
+}

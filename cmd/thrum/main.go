@@ -1,0 +1,62 @@
+// Command thrum builds acoustic anomaly-detection training sets for plant
+// machinery: survey, physics-aware augmentation, synthetic fault cues,
+// evaluation-safe splits, features and an audit, with a ledger per machine.
+//
+// Exit codes: 0 success; 1 error; 2 bad usage; 3 the run finished but found
+// problems (survey --strict, a failed audit, rejected inputs).
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"os/signal"
+	"syscall"
+)
+
+// Exit codes.
+const (
+	exitOK       = 0
+	exitError    = 1
+	exitUsage    = 2
+	exitProblems = 3
+)
+
+// problemsError means the command ran but found problems; main maps it to
+// exit code 3.
+type problemsError struct{ msg string }
+
+func (e *problemsError) Error() string { return e.msg }
+
+// usageError is a bad command line.
+type usageError struct{ err error }
+
+func (e *usageError) Error() string { return e.err.Error() }
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	root := newRootCmd(os.Stdout, os.Stderr)
+	err := root.ExecuteContext(ctx)
+	os.Exit(exitCode(err))
+}
+
+func exitCode(err error) int {
+	if err == nil {
+		return exitOK
+	}
+	fmt.Fprintln(os.Stderr, "thrum:", err)
+	var pe *problemsError
+	var ue *usageError
+	switch {
+	case errors.As(err, &pe):
+		return exitProblems
+	case errors.As(err, &ue):
+		return exitUsage
+	case errors.Is(err, context.Canceled):
+		fmt.Fprintln(os.Stderr, "thrum: interrupted; rerun the same command to resume")
+		return exitError
+	}
+	return exitError
+}

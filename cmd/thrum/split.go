@@ -1,0 +1,83 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"path/filepath"
+	"text/tabwriter"
+
+	"github.com/spf13/cobra"
+
+	"thrum/augment"
+	"thrum/machine"
+	"thrum/split"
+)
+
+func newSplitCmd(g *globals) *cobra.Command {
+	var o stageOptions
+	cmd := &cobra.Command{
+		Use:   "split PLANT.toml --out DIR",
+		Short: "Write evaluation-safe train/eval/test lists from the ledgers",
+		Long: `split joins any shard ledger parts, then assigns every output of the ledgers to train,
+eval or test. The unit is the group (a recording, or its session), with every variant derived
+from it; assignment is a stable hash of (plant seed, machine id, group), so adding recordings
+never moves existing ones. Only recorded clips reach eval and test; augmented and synthetic
+fault files are training only (the variants of an eval/test group are excluded); real
+anomalous recordings go to eval or test; a hold-out condition goes entirely to test.
+Lists go to DIR/splits/.`,
+		Args: exactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if o.Out == "" {
+				return &usageError{fmt.Errorf("--out is required")}
+			}
+			p, err := machine.Load(args[0])
+			if err != nil {
+				return err
+			}
+			return runSplit(cmd.Context(), g, o, p)
+		},
+	}
+	cmd.Flags().StringVarP(&o.Out, "out", "o", "", "output root (required)")
+	cmd.Flags().BoolVar(&o.JSON, "json", false, "summary as JSON lines on stdout")
+	return cmd
+}
+
+func runSplit(_ context.Context, g *globals, o stageOptions, p *machine.Plant) error {
+	if _, err := augment.MergeShards(p, o.Out); err != nil {
+		return err
+	}
+	var all []machine.Entry
+	for i := range p.Machines {
+		es, err := machine.ReadLedgerFile(filepath.Join(o.Out, p.Machines[i].ID, machine.LedgerName))
+		if err != nil {
+			return err
+		}
+		all = append(all, es...)
+	}
+	if len(all) == 0 {
+		return fmt.Errorf("split: no ledger lines under %s: run expand first", o.Out)
+	}
+	pol := split.PolicyFromPlant(p)
+	rows, err := split.Assign(split.ItemsFromLedger(all), pol)
+	if err != nil {
+		return err
+	}
+	if err := split.WriteSplits(o.Out, rows, pol); err != nil {
+		return err
+	}
+	sum := split.Summarize(rows)
+	if o.JSON {
+		for _, s := range sum {
+			writeJSONLine(g.stdout, map[string]any{"event": "split", "machine": s.Machine, "split": s.Split,
+				"origin": s.Origin, "label": s.Label, "files": s.Files, "groups": s.Groups})
+		}
+		return nil
+	}
+	tw := tabwriter.NewWriter(g.stdout, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "machine\tsplit\torigin\tlabel\tfiles\tgroups")
+	for _, s := range sum {
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%d\n", s.Machine, s.Split, s.Origin, s.Label, s.Files, s.Groups)
+	}
+	fmt.Fprintf(tw, "lists written to %s\n", filepath.Join(o.Out, split.SplitsDir))
+	return tw.Flush()
+}

@@ -1,0 +1,48 @@
+// Package fft provides fast power-of-two Fourier transforms of real and
+// complex sequences, and FFT-based linear convolution.
+//
+// # Transforms
+//
+// For a real sequence x of length n (a power of two ≥ 2), Real.Forward
+// returns the n/2+1 one-sided coefficients
+//
+//	X[k] = Σ_{t=0}^{n−1} x[t]·e^{−2πikt/n},  k = 0 … n/2,
+//
+// unnormalised, so a coefficient of a unit-amplitude cosine at bin k
+// (0 < k < n/2) has magnitude n/2. Real.Inverse evaluates
+//
+//	x[t] = Σ_{k=0}^{n−1} X[k]·e^{+2πikt/n}
+//
+// over the full spectrum rebuilt from X[n−k] = X*[k], so
+// Inverse(Forward(x)) = n·x; the imaginary parts of X[0] and X[n/2] are
+// ignored. Complex.Forward and Complex.Inverse are the same two sums for
+// complex sequences of any power-of-two length. Real.PowerSpectrum returns
+// |X[k]|² (no scaling, no one-sided doubling) without forming X.
+//
+// Parseval's relation in this scaling is
+//
+//	Σ x[t]² = (1/n)·(|X[0]|² + |X[n/2]|² + 2·Σ_{k=1}^{n/2−1} |X[k]|²).
+//
+// # Method
+//
+// A real transform of length n is a complex transform of length n/2 on
+// z[j] = x[2j] + i·x[2j+1] followed by a split pass. The complex kernel is a
+// Stockham autosort FFT (radix 4, with one radix-8 pass when log2 of the
+// length is odd) on precomputed twiddle tables, each twiddle computed
+// directly with math.Sincos rather than by recurrence. Plans (Real, Complex)
+// hold scratch space: reuse one per goroutine. With a reused destination
+// the transforms do not allocate.
+//
+// # Convolution
+//
+// Convolver computes the causal linear convolution y[t] = Σ_k h[k]·x[t−k]
+// either cut to the input length (Apply) or in full, len(x)+len(h)−1 samples
+// (ApplyFull). It picks, from the lengths alone, a direct sum, one large
+// FFT, or overlap-save with a smaller FFT, whichever its cost model rates
+// cheapest; the results of the methods agree to rounding. It is safe for
+// concurrent use.
+//
+// Panics are reserved for broken caller contracts: a length that is not a
+// power of two, a source whose length does not match the plan, an empty
+// kernel. Messages start with "fft: ".
+package fft

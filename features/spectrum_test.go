@@ -1,0 +1,48 @@
+package features
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/dsp/fourier"
+)
+
+// gonumPlan computes the power spectrum with gonum's FFTPACK port, an
+// independent reference for the plan the STFT uses.
+type gonumPlan struct {
+	fft  *fourier.FFT
+	coef []complex128
+}
+
+func (p *gonumPlan) power(dst, src []float64) []float64 {
+	c := p.fft.Coefficients(p.coef, src)
+	for k, v := range c {
+		re, im := real(v), imag(v)
+		dst[k] = re*re + im*im
+	}
+	return dst[:len(c)]
+}
+
+func TestPowerPlanMatchesGonum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 4))
+	for _, n := range []int{4, 8, 64, 512, 1024, 4096} {
+		ref := &gonumPlan{fft: fourier.NewFFT(n), coef: make([]complex128, n/2+1)}
+		pl := newPowerPlan(n)
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = rng.NormFloat64()
+		}
+		want := ref.power(make([]float64, n/2+1), x)
+		got := pl.power(make([]float64, n/2+1), x)
+		var peak float64
+		for _, v := range want {
+			peak = math.Max(peak, v)
+		}
+		for k := range want {
+			if math.Abs(got[k]-want[k]) > 1e-11*peak {
+				t.Fatalf("n=%d bin %d: %v, gonum %v", n, k, got[k], want[k])
+			}
+		}
+	}
+}

@@ -1,0 +1,701 @@
+package machine
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"regexp"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+)
+
+// ConfigError is one problem in a plant file: the file, the key path
+// (machine[pump-a1].condition[low].rpm) and, where it can be found, the line.
+type ConfigError struct {
+	File string
+	Key  string
+	Line int // 0 when unknown
+	Msg  string
+}
+
+func (e *ConfigError) Error() string {
+	loc := e.File
+	if e.Line > 0 {
+		loc = fmt.Sprintf("%s:%d", e.File, e.Line)
+	}
+	if e.Key == "" {
+		return fmt.Sprintf("machine: %s: %s", loc, e.Msg)
+	}
+	return fmt.Sprintf("machine: %s: %s: %s", loc, e.Key, e.Msg)
+}
+
+// Defaults applied by Load where a key is absent.
+const (
+	DefaultClipSeconds   = 10.0
+	DefaultTrain         = 0.7
+	DefaultEval          = 0.15
+	DefaultTest          = 0.15
+	DefaultAnomalousEval = 0.5
+	DefaultTemperatureC  = 20.0
+	DefaultDamping       = 0.05
+	DefaultJitterPercent = 1.5
+)
+
+// MachineKinds are the machine kinds a plant may declare.
+func MachineKinds() []string {
+	return []string{"pump", "fan", "compressor", "gearbox", "motor", "conveyor", "blower", "turbine"}
+}
+
+// StepKinds are the recipe step kinds. tempo and pitch are non-physical and
+// need nonphysical = true.
+func StepKinds() []string {
+	return []string{"speed", "gain", "invert", "shift", "filter", "noise", "background", "room", "ir", "tempo", "pitch"}
+}
+
+// FaultKinds are the synthetic fault cue kinds a fault plan may name.
+func FaultKinds() []string {
+	return []string{"outer-race", "inner-race", "ball", "cage", "impact", "imbalance", "misalignment", "gear-tooth"}
+}
+
+// OctaveBands are the band centres accepted in octave_absorption.
+func OctaveBands() []string { return []string{"125", "250", "500", "1000", "2000", "4000"} }
+
+var lineRE = regexp.MustCompile(`line (\d+)`)
+
+var idPattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]{0,63}$`)
+
+// ValidID reports whether s may name a machine, condition, room, zone,
+// background or recipe: lower-case letters, digits, '.', '_' and '-', not
+// starting with a punctuation mark, at most 64 characters, so it can never
+// escape a folder.
+func ValidID(s string) bool {
+	return idPattern.MatchString(s) && !strings.Contains(s, "..")
+}
+
+// Load reads and validates a plant file. Every problem is reported, each
+// naming the file, the key path and, where it can be found, the line; the
+// returned error joins them (errors.As finds *ConfigError).
+func Load(path string) (*Plant, error) {
+	src, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("machine: %w", err)
+	}
+	return Parse(src, path)
+}
+
+// Parse decodes and validates plant TOML; name is the file name used in
+// errors and to resolve relative paths.
+func Parse(src []byte, name string) (*Plant, error) {
+	var p Plant
+	md, err := toml.Decode(string(src), &p)
+	if err != nil {
+		ce := &ConfigError{File: name, Msg: err.Error()}
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			ce.Line = pe.Position.Line
+			ce.Msg = pe.Message
+		} else if m := lineRE.FindStringSubmatch(err.Error()); m != nil {
+			ce.Line, _ = strconv.Atoi(m[1])
+		}
+		return nil, ce
+	}
+	v := &validator{file: name, lines: strings.Split(string(src), "\n")}
+	undecoded := md.Undecoded()
+	for _, k := range undecoded {
+		key := k.String()
+		v.errs = append(v.errs, &ConfigError{File: name, Key: key, Line: v.findKey("", k[len(k)-1]), Msg: "unknown key"})
+	}
+	p.Path = name
+	v.plant(&p)
+	if len(v.errs) > 0 {
+		return nil, errors.Join(v.errs...)
+	}
+	return &p, nil
+}
+
+type validator struct {
+	file  string
+	lines []string
+	errs  []error
+}
+
+// findKey returns the line of the first `key =` (or `[..key]`) after the
+// line that declares anchor (an id or name value), or 0.
+func (v *validator) findKey(anchor, key string) int {
+	start := 0
+	if anchor != "" {
+		q := `"` + anchor + `"`
+		for i, l := range v.lines {
+			t := strings.TrimSpace(l)
+			if (strings.HasPrefix(t, "id") || strings.HasPrefix(t, "name")) && strings.Contains(t, q) {
+				start = i
+				break
+			}
+		}
+	}
+	for i := start; i < len(v.lines); i++ {
+		t := strings.TrimSpace(v.lines[i])
+		if strings.HasPrefix(t, key) {
+			rest := strings.TrimSpace(t[len(key):])
+			if strings.HasPrefix(rest, "=") {
+				return i + 1
+			}
+		}
+		if strings.HasPrefix(t, "[") && strings.Contains(t, key) {
+			return i + 1
+		}
+	}
+	return 0
+}
+
+func (v *validator) bad(anchor, key, field, format string, a ...any) {
+	v.errs = append(v.errs, &ConfigError{File: v.file, Key: key, Line: v.findKey(anchor, field), Msg: fmt.Sprintf(format, a...)})
+}
+
+func (v *validator) rangeCheck(anchor, key, field string, x, lo, hi float64, unit string) {
+	if math.IsNaN(x) || x < lo || x > hi {
+		v.bad(anchor, key, field, "%g %s is outside %g … %g %s", x, unit, lo, hi, unit)
+	}
+}
+
+func (v *validator) pair(anchor, key, field string, r []float64, lo, hi float64, unit string) {
+	if len(r) != 2 {
+		v.bad(anchor, key, field, "needs [min, max] (%d values given)", len(r))
+		return
+	}
+	if r[0] > r[1] {
+		v.bad(anchor, key, field, "min %g is above max %g", r[0], r[1])
+	}
+	for _, x := range r {
+		v.rangeCheck(anchor, key, field, x, lo, hi, unit)
+	}
+}
+
+func (v *validator) id(anchor, key, field, s string) {
+	if !ValidID(s) {
+		v.bad(anchor, key, field, "%q is not a valid id (lower-case letters, digits, '.', '_', '-'; at most 64; no '..')", s)
+	}
+}
+
+func (v *validator) plant(p *Plant) {
+	if p.SampleRate == 0 {
+		v.bad("", "sample_rate", "sample_rate", "is required (Hz)")
+	} else {
+		v.rangeCheck("", "sample_rate", "sample_rate", float64(p.SampleRate), 8000, 192000, "Hz")
+	}
+	if p.Recordings == "" {
+		v.bad("", "recordings", "recordings", "is required (the recordings root folder)")
+	}
+	if p.ClipSeconds == 0 {
+		p.ClipSeconds = DefaultClipSeconds
+	}
+	v.rangeCheck("", "clip_seconds", "clip_seconds", p.ClipSeconds, 0.5, 600, "s")
+	switch p.Remainder {
+	case "":
+		p.Remainder = "drop"
+	case "drop", "pad":
+	default:
+		v.bad("", "remainder", "remainder", "%q is not one of drop, pad", p.Remainder)
+	}
+	v.fractions("", "split", &p.Split)
+
+	rooms := map[string]*Room{}
+	for i := range p.Rooms {
+		r := &p.Rooms[i]
+		key := fmt.Sprintf("room[%d]", i)
+		v.id(r.ID, key+".id", "id", r.ID)
+		if rooms[r.ID] != nil {
+			v.bad(r.ID, key+".id", "id", "duplicate room id %q", r.ID)
+		}
+		rooms[r.ID] = r
+		v.room(r, fmt.Sprintf("room[%s]", r.ID))
+	}
+	zones := map[string]*Zone{}
+	for i := range p.Zones {
+		z := &p.Zones[i]
+		key := fmt.Sprintf("zone[%d]", i)
+		v.id(z.ID, key+".id", "id", z.ID)
+		if zones[z.ID] != nil {
+			v.bad(z.ID, key+".id", "id", "duplicate zone id %q", z.ID)
+		}
+		zones[z.ID] = z
+		key = fmt.Sprintf("zone[%s]", z.ID)
+		r := rooms[z.Room]
+		if r == nil {
+			v.bad(z.ID, key+".room", "room", "unknown room %q", z.Room)
+		}
+		if len(z.Min) != 3 || len(z.Max) != 3 {
+			v.bad(z.ID, key+".min", "min", "min and max need three coordinates [x, y, z] in metres")
+			continue
+		}
+		for k := 0; k < 3; k++ {
+			if z.Min[k] > z.Max[k] {
+				v.bad(z.ID, key+".min", "min", "min %v is above max %v on axis %d", z.Min, z.Max, k)
+			}
+		}
+		if r != nil && len(r.Size) == 3 && (!inside(z.Min, r.Size) || !inside(z.Max, r.Size)) {
+			v.bad(z.ID, key+".max", "max", "microphone zone %v … %v is not inside room %q of size %v m", z.Min, z.Max, r.ID, r.Size)
+		}
+	}
+	bgs := map[string]bool{}
+	for i, b := range p.Backgrounds {
+		key := fmt.Sprintf("background[%d]", i)
+		v.id(b.ID, key+".id", "id", b.ID)
+		if bgs[b.ID] {
+			v.bad(b.ID, key+".id", "id", "duplicate background id %q", b.ID)
+		}
+		bgs[b.ID] = true
+		if b.Path == "" {
+			v.bad(b.ID, fmt.Sprintf("background[%s].path", b.ID), "path", "is required")
+		}
+		if b.Room != "" && rooms[b.Room] == nil {
+			v.bad(b.ID, fmt.Sprintf("background[%s].room", b.ID), "room", "unknown room %q", b.Room)
+		}
+	}
+	recipes := map[string]*Recipe{}
+	for i := range p.Recipes {
+		r := &p.Recipes[i]
+		key := fmt.Sprintf("recipe[%d]", i)
+		v.id(r.ID, key+".id", "id", r.ID)
+		if recipes[r.ID] != nil {
+			v.bad(r.ID, key+".id", "id", "duplicate recipe id %q", r.ID)
+		}
+		recipes[r.ID] = r
+		v.recipe(p, r, fmt.Sprintf("recipe[%s]", r.ID))
+	}
+	v.features("", "features", p.Features, float64(p.SampleRate))
+	if len(p.Machines) == 0 {
+		v.bad("", "machine", "[[machine]]", "at least one [[machine]] is required")
+	}
+	seen := map[string]bool{}
+	for i := range p.Machines {
+		m := &p.Machines[i]
+		key := fmt.Sprintf("machine[%d]", i)
+		v.id(m.ID, key+".id", "id", m.ID)
+		if seen[m.ID] {
+			v.bad(m.ID, key+".id", "id", "duplicate machine id %q", m.ID)
+		}
+		seen[m.ID] = true
+		v.machine(p, m, fmt.Sprintf("machine[%s]", m.ID), rooms, zones, recipes)
+	}
+}
+
+func inside(pt, size []float64) bool {
+	for k := 0; k < 3; k++ {
+		if pt[k] < 0 || pt[k] > size[k] {
+			return false
+		}
+	}
+	return true
+}
+
+func (v *validator) fractions(anchor, key string, f *SplitFractions) {
+	if f.Train == 0 && f.Eval == 0 && f.Test == 0 {
+		f.Train, f.Eval, f.Test = DefaultTrain, DefaultEval, DefaultTest
+	}
+	if f.AnomalousEval == 0 {
+		f.AnomalousEval = DefaultAnomalousEval
+	}
+	for _, c := range []struct {
+		n string
+		x float64
+	}{{"train", f.Train}, {"eval", f.Eval}, {"test", f.Test}, {"anomalous_eval", f.AnomalousEval}} {
+		v.rangeCheck(anchor, key+"."+c.n, c.n, c.x, 0, 1, "")
+	}
+	if s := f.Train + f.Eval + f.Test; math.Abs(s-1) > 1e-6 {
+		v.bad(anchor, key+".train", "train", "train + eval + test = %g, must be 1", s)
+	}
+}
+
+func (v *validator) room(r *Room, key string) {
+	if len(r.Size) != 3 {
+		v.bad(r.ID, key+".size", "size", "needs three dimensions [length, width, height] in metres")
+	} else {
+		for _, s := range r.Size {
+			v.rangeCheck(r.ID, key+".size", "size", s, 1, 1000, "m")
+		}
+	}
+	switch len(r.Absorption) {
+	case 1:
+		a := r.Absorption[0]
+		r.Absorption = Walls{a, a, a, a, a, a}
+	case 6:
+	default:
+		v.bad(r.ID, key+".absorption", "absorption", "needs 1 or 6 values (x=0, x=L, y=0, y=W, floor, ceiling), %d given", len(r.Absorption))
+	}
+	for _, a := range r.Absorption {
+		v.rangeCheck(r.ID, key+".absorption", "absorption", a, 0.01, 0.99, "")
+	}
+	bands := map[string]bool{}
+	for _, b := range OctaveBands() {
+		bands[b] = true
+	}
+	names := make([]string, 0, len(r.OctaveAbsorption))
+	for b := range r.OctaveAbsorption {
+		names = append(names, b)
+	}
+	sort.Strings(names)
+	for _, b := range names {
+		vals := r.OctaveAbsorption[b]
+		k := key + ".octave_absorption." + b
+		if !bands[b] {
+			v.bad(r.ID, k, "octave_absorption", "band %q is not one of %s", b, strings.Join(OctaveBands(), ", "))
+		}
+		if len(vals) != 6 {
+			v.bad(r.ID, k, "octave_absorption", "needs 6 values, %d given", len(vals))
+		}
+		for _, a := range vals {
+			v.rangeCheck(r.ID, k, "octave_absorption", a, 0.01, 0.99, "")
+		}
+	}
+	if r.TemperatureC == nil {
+		t := DefaultTemperatureC
+		r.TemperatureC = &t
+	}
+	v.rangeCheck(r.ID, key+".temperature_c", "temperature_c", *r.TemperatureC, -30, 60, "°C")
+	if r.RT60Range == nil {
+		r.RT60Range = []float64{0.1, 5}
+	}
+	v.pair(r.ID, key+".rt60_range", "rt60_range", r.RT60Range, 0.01, 30, "s")
+}
+
+func (v *validator) recipe(p *Plant, r *Recipe, key string) {
+	if r.Variants == 0 {
+		r.Variants = 1
+	}
+	v.rangeCheck(r.ID, key+".variants", "variants", float64(r.Variants), 1, 1000, "")
+	if len(r.Steps) == 0 {
+		v.bad(r.ID, key+".step", "[[recipe.step]]", "a recipe needs at least one [[recipe.step]]")
+		return
+	}
+	if r.MaxSteps == 0 {
+		r.MaxSteps = len(r.Steps)
+	}
+	if r.MinSteps == 0 {
+		r.MinSteps = 1
+	}
+	if r.MinSteps < 0 || r.MinSteps > r.MaxSteps || r.MaxSteps > len(r.Steps) {
+		v.bad(r.ID, key+".min_steps", "min_steps", "need 1 ≤ min_steps (%d) ≤ max_steps (%d) ≤ number of steps (%d)", r.MinSteps, r.MaxSteps, len(r.Steps))
+	}
+	kinds := map[string]bool{}
+	for _, k := range StepKinds() {
+		kinds[k] = true
+	}
+	nyq := float64(p.SampleRate) / 2
+	for i := range r.Steps {
+		s := &r.Steps[i]
+		k := fmt.Sprintf("%s.step[%d]", key, i)
+		if !kinds[s.Kind] {
+			v.bad(r.ID, k+".kind", "kind", "%q is not one of %s", s.Kind, strings.Join(StepKinds(), ", "))
+			continue
+		}
+		if s.Increment < 0 {
+			v.bad(r.ID, k+".increment", "increment", "must be ≥ 0")
+		}
+		needRange := func(lo, hi float64, unit string) { v.pair(r.ID, k+".range", "range", s.Range, lo, hi, unit) }
+		switch s.Kind {
+		case "speed":
+			needRange(-20, 20, "%")
+		case "gain":
+			needRange(-40, 20, "dB")
+		case "invert", "room":
+			if len(s.Range) != 0 {
+				v.bad(r.ID, k+".range", "range", "step kind %q takes no range", s.Kind)
+			}
+		case "shift":
+			needRange(-60000, 60000, "ms")
+			if s.Mode == "" {
+				s.Mode = "circular"
+			}
+			if s.Mode != "circular" && s.Mode != "zero" {
+				v.bad(r.ID, k+".mode", "mode", "%q is not one of circular, zero", s.Mode)
+			}
+		case "filter":
+			switch s.Mode {
+			case "telephone":
+			case "lowpass", "highpass", "bandpass":
+				needRange(10, math.Max(nyq*0.98, 10), "Hz")
+			default:
+				v.bad(r.ID, k+".mode", "mode", "%q is not one of lowpass, highpass, bandpass, telephone", s.Mode)
+			}
+			if s.Order < 0 || s.Order > 16 {
+				v.bad(r.ID, k+".order", "order", "%d is outside 0 … 16", s.Order)
+			}
+			if s.Q < 0 || s.Q > 50 {
+				v.bad(r.ID, k+".q", "q", "%g is outside 0 … 50", s.Q)
+			}
+		case "noise":
+			needRange(-20, 80, "dB")
+			if s.Mode == "" {
+				s.Mode = "any"
+			}
+			switch s.Mode {
+			case "white", "pink", "brown", "any":
+			default:
+				v.bad(r.ID, k+".mode", "mode", "%q is not one of white, pink, brown, any", s.Mode)
+			}
+		case "background":
+			needRange(-20, 80, "dB")
+		case "ir":
+			if len(s.Files) == 0 {
+				v.bad(r.ID, k+".files", "files", "step kind ir needs at least one impulse-response file")
+			}
+		case "tempo":
+			needRange(-50, 50, "%")
+		case "pitch":
+			needRange(-1200, 1200, "cents")
+		}
+		if s.Kind == "noise" || s.Kind == "background" {
+			switch s.Weighting {
+			case "", "none", "A":
+			default:
+				v.bad(r.ID, k+".weighting", "weighting", "%q is not one of none, A", s.Weighting)
+			}
+		}
+		if (s.Kind == "tempo" || s.Kind == "pitch") && !s.Nonphysical {
+			v.bad(r.ID, k+".nonphysical", "kind", "step kind %q breaks machine physics (harmonics no longer follow speed); set nonphysical = true to use it", s.Kind)
+		}
+	}
+}
+
+func (v *validator) machine(p *Plant, m *Machine, key string, rooms map[string]*Room, zones map[string]*Zone, recipes map[string]*Recipe) {
+	kinds := map[string]bool{}
+	for _, k := range MachineKinds() {
+		kinds[k] = true
+	}
+	if !kinds[m.Kind] {
+		v.bad(m.ID, key+".kind", "kind", "%q is not one of %s", m.Kind, strings.Join(MachineKinds(), ", "))
+	}
+	if m.Blades < 0 || m.Blades > 200 {
+		v.bad(m.ID, key+".blades", "blades", "%d is outside 0 … 200", m.Blades)
+	}
+	var room *Room
+	if m.Room != "" {
+		room = rooms[m.Room]
+		if room == nil {
+			v.bad(m.ID, key+".room", "room", "unknown room %q", m.Room)
+		}
+	}
+	if m.Zone != "" {
+		z := zones[m.Zone]
+		switch {
+		case z == nil:
+			v.bad(m.ID, key+".zone", "zone", "unknown zone %q", m.Zone)
+		case m.Room == "":
+			v.bad(m.ID, key+".zone", "zone", "a zone needs the machine's room")
+		case z.Room != m.Room:
+			v.bad(m.ID, key+".zone", "zone", "zone %q is in room %q, not in the machine's room %q", m.Zone, z.Room, m.Room)
+		}
+	}
+	if m.Room != "" {
+		if len(m.Position) != 3 {
+			v.bad(m.ID, key+".position", "position", "needs [x, y, z] in metres when a room is given")
+		} else if room != nil && len(room.Size) == 3 && !inside(m.Position, room.Size) {
+			v.bad(m.ID, key+".position", "position", "%v is not inside room %q of size %v m", m.Position, room.ID, room.Size)
+		}
+	}
+	if m.Recipe != "" && recipes[m.Recipe] == nil {
+		v.bad(m.ID, key+".recipe", "recipe", "unknown recipe %q", m.Recipe)
+	}
+	if m.Split != nil {
+		v.fractions(m.ID, key+".split", m.Split)
+	}
+	for i, g := range m.Gears {
+		k := fmt.Sprintf("%s.gear[%d]", key, i)
+		v.rangeCheck(m.ID, k+".driving_teeth", "driving_teeth", float64(g.DrivingTeeth), 3, 1000, "teeth")
+		v.rangeCheck(m.ID, k+".driven_teeth", "driven_teeth", float64(g.DrivenTeeth), 3, 1000, "teeth")
+	}
+	for i, b := range m.Bearings {
+		k := fmt.Sprintf("%s.bearing[%d]", key, i)
+		v.rangeCheck(m.ID, k+".balls", "balls", float64(b.Balls), 3, 100, "")
+		v.rangeCheck(m.ID, k+".ball_diameter_mm", "ball_diameter_mm", b.BallDiameterMM, 0.1, 1000, "mm")
+		v.rangeCheck(m.ID, k+".pitch_diameter_mm", "pitch_diameter_mm", b.PitchDiameterMM, 0.1, 5000, "mm")
+		if b.PitchDiameterMM <= b.BallDiameterMM {
+			v.bad(m.ID, k+".pitch_diameter_mm", "pitch_diameter_mm", "pitch diameter %g mm must exceed ball diameter %g mm", b.PitchDiameterMM, b.BallDiameterMM)
+		}
+		v.rangeCheck(m.ID, k+".contact_angle_deg", "contact_angle_deg", b.ContactAngleDeg, 0, 45, "°")
+		if b.Shaft < 0 || b.Shaft > len(m.Gears) {
+			v.bad(m.ID, k+".shaft", "shaft", "shaft %d does not exist (0 … %d)", b.Shaft, len(m.Gears))
+		}
+	}
+	if len(m.Conditions) == 0 {
+		v.bad(m.ID, key+".condition", "[[machine.condition]]", "a machine needs at least one [[machine.condition]]")
+	}
+	seen := map[string]bool{}
+	for i := range m.Conditions {
+		c := &m.Conditions[i]
+		k := fmt.Sprintf("%s.condition[%d]", key, i)
+		v.id(c.Name, k+".name", "name", c.Name)
+		if seen[c.Name] {
+			v.bad(c.Name, k+".name", "name", "duplicate condition %q", c.Name)
+		}
+		seen[c.Name] = true
+		k = fmt.Sprintf("%s.condition[%s]", key, c.Name)
+		if c.RPM <= 0 || c.RPM > 100000 || math.IsNaN(c.RPM) {
+			v.bad(c.Name, k+".rpm", "rpm", "%g rpm is outside (0, 100000]", c.RPM)
+		}
+		v.rangeCheck(c.Name, k+".band_percent", "band_percent", c.BandPercent, 0, 50, "%")
+		if c.Recipe != "" && recipes[c.Recipe] == nil {
+			v.bad(c.Name, k+".recipe", "recipe", "unknown recipe %q", c.Recipe)
+		}
+		rid := c.Recipe
+		if rid == "" {
+			rid = m.Recipe
+		}
+		if r := recipes[rid]; r != nil {
+			for _, s := range r.Steps {
+				if s.Kind == "room" && (m.Room == "" || m.Zone == "") {
+					v.bad(m.ID, key+".zone", "recipe", "recipe %q has a room step but the machine has no room and zone", rid)
+					break
+				}
+				if s.Kind == "background" && len(p.Backgrounds) == 0 {
+					// synthesised plant noise is used: fine
+					continue
+				}
+			}
+		}
+	}
+	if f := m.Faults; f != nil {
+		v.faults(p, m, f, key+".faults")
+	}
+	v.features(m.ID, key+".features", m.Features, float64(p.SampleRate))
+}
+
+func (v *validator) faults(p *Plant, m *Machine, f *FaultPlan, key string) {
+	kinds := map[string]bool{}
+	for _, k := range FaultKinds() {
+		kinds[k] = true
+	}
+	for _, k := range f.Kinds {
+		if !kinds[k] {
+			v.bad(m.ID, key+".kinds", "kinds", "%q is not one of %s", k, strings.Join(FaultKinds(), ", "))
+			continue
+		}
+		switch k {
+		case "outer-race", "inner-race", "ball", "cage":
+			if len(m.Bearings) == 0 {
+				v.bad(m.ID, key+".kinds", "kinds", "fault kind %q needs a [[machine.bearing]]", k)
+			}
+		case "gear-tooth":
+			if len(m.Gears) == 0 {
+				v.bad(m.ID, key+".kinds", "kinds", "fault kind %q needs a [[machine.gear]]", k)
+			}
+		}
+	}
+	if f.PerClip == 0 {
+		f.PerClip = 1
+	}
+	v.rangeCheck(m.ID, key+".per_clip", "per_clip", float64(f.PerClip), 1, 100, "")
+	if f.SeverityDB == nil {
+		f.SeverityDB = []float64{-18, -6}
+	}
+	v.pair(m.ID, key+".severity_db", "severity_db", f.SeverityDB, -60, 20, "dB")
+	if f.ResonanceHz == nil {
+		hi := math.Min(5000, 0.4*float64(p.SampleRate))
+		f.ResonanceHz = []float64{math.Min(2000, hi*0.6), hi}
+	}
+	v.pair(m.ID, key+".resonance_hz", "resonance_hz", f.ResonanceHz, 100, 0.45*float64(p.SampleRate), "Hz")
+	if f.Damping == 0 {
+		f.Damping = DefaultDamping
+	}
+	v.rangeCheck(m.ID, key+".damping", "damping", f.Damping, 0.001, 0.5, "")
+	if f.JitterPercent == nil {
+		j := DefaultJitterPercent
+		f.JitterPercent = &j
+	}
+	v.rangeCheck(m.ID, key+".jitter_percent", "jitter_percent", *f.JitterPercent, 0, 10, "%")
+}
+
+// Dir is the folder of the plant file; relative paths resolve against it.
+func (p *Plant) Dir() string { return filepath.Dir(p.Path) }
+
+// Resolve returns path resolved against the plant file's folder.
+func (p *Plant) Resolve(path string) string {
+	if filepath.IsAbs(path) {
+		return path
+	}
+	return filepath.Join(p.Dir(), path)
+}
+
+// RecordingsRoot is the resolved recordings folder.
+func (p *Plant) RecordingsRoot() string { return p.Resolve(p.Recordings) }
+
+// Machine returns the machine with the given id, or nil.
+func (p *Plant) Machine(id string) *Machine {
+	for i := range p.Machines {
+		if p.Machines[i].ID == id {
+			return &p.Machines[i]
+		}
+	}
+	return nil
+}
+
+// Room returns the room with the given id, or nil.
+func (p *Plant) Room(id string) *Room {
+	for i := range p.Rooms {
+		if p.Rooms[i].ID == id {
+			return &p.Rooms[i]
+		}
+	}
+	return nil
+}
+
+// Zone returns the zone with the given id, or nil.
+func (p *Plant) Zone(id string) *Zone {
+	for i := range p.Zones {
+		if p.Zones[i].ID == id {
+			return &p.Zones[i]
+		}
+	}
+	return nil
+}
+
+// Recipe returns the recipe with the given id, or nil.
+func (p *Plant) Recipe(id string) *Recipe {
+	for i := range p.Recipes {
+		if p.Recipes[i].ID == id {
+			return &p.Recipes[i]
+		}
+	}
+	return nil
+}
+
+// Condition returns the machine's condition with the given name, or nil.
+func (m *Machine) Condition(name string) *Condition {
+	for i := range m.Conditions {
+		if m.Conditions[i].Name == name {
+			return &m.Conditions[i]
+		}
+	}
+	return nil
+}
+
+// RecipeFor returns the recipe that applies to a condition (its own, else the
+// machine's), or nil when none is set.
+func (p *Plant) RecipeFor(m *Machine, c *Condition) *Recipe {
+	if c != nil && c.Recipe != "" {
+		return p.Recipe(c.Recipe)
+	}
+	if m.Recipe != "" {
+		return p.Recipe(m.Recipe)
+	}
+	return nil
+}
+
+// Fractions returns the split fractions for a machine.
+func (p *Plant) Fractions(m *Machine) SplitFractions {
+	if m.Split != nil {
+		return *m.Split
+	}
+	return p.Split
+}
+
+// Band returns the speed band of a condition as [lo, hi] rpm.
+func (c *Condition) Band() (lo, hi float64) {
+	return c.RPM * (1 - c.BandPercent/100), c.RPM * (1 + c.BandPercent/100)
+}

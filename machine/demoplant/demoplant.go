@@ -1,0 +1,191 @@
+package demoplant
+
+import (
+	"bytes"
+	_ "embed"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"thrum/machine"
+	"thrum/machine/wavio"
+)
+
+//go:embed plant.toml.txt
+var plantTemplate string
+
+// DefaultSeed is the seed ExampleTOML carries and Write uses when
+// Options.Seed is 0.
+const DefaultSeed = 20260301
+
+// Defaults and limits of Options.Seconds.
+const (
+	DefaultSeconds = 30.0
+	MinSeconds     = 1.0
+	MaxSeconds     = 600.0
+	// BackgroundSeconds is the length of the background recording (shorter
+	// when Seconds is shorter).
+	BackgroundSeconds = 20.0
+	// ClipSeconds is the clip length the plant declares (Seconds when that
+	// is shorter, so every recording gives at least one clip).
+	ClipSeconds = 10.0
+)
+
+// Options control Write. The zero value writes the default plant.
+type Options struct {
+	// Seed is the plant seed written to plant.toml and the seed of the
+	// synthesis; 0 means DefaultSeed. TOML integers are signed, so it must
+	// be at most 2^63−1.
+	Seed uint64
+	// Seconds is the length of each machine recording; 0 means 30 s.
+	Seconds float64
+	// Overwrite lets Write replace an existing plant.toml that differs from
+	// the one it would write. Without it Write refuses, so a real plant is
+	// never overwritten by accident; an identical file (a rerun) is fine.
+	Overwrite bool
+}
+
+// ExampleTOML is the commented plant.toml of the demo plant, with
+// DefaultSeed, as `thrum init` writes it.
+func ExampleTOML() string { return render(DefaultSeed, ClipSeconds) }
+
+func render(seed uint64, clip float64) string {
+	return strings.NewReplacer(
+		"{{seed}}", strconv.FormatUint(seed, 10),
+		"{{clip}}", strconv.FormatFloat(clip, 'f', -1, 64),
+	).Replace(plantTemplate)
+}
+
+// ErrExists is returned (wrapped) when the folder already holds a different
+// plant.toml and Options.Overwrite is false.
+var ErrExists = errors.New("demoplant: a different plant.toml already exists")
+
+// Write writes the demo plant into dir (created if needed): plant.toml, its
+// recordings and its background recording, and returns the path of
+// plant.toml. The same options always give byte-identical files. Each file
+// is written to a temporary name and renamed into place; files are not
+// synced to disk (they can always be made again).
+func Write(dir string, opt Options) (plantPath string, err error) {
+	if opt.Seed == 0 {
+		opt.Seed = DefaultSeed
+	}
+	if opt.Seed > math.MaxInt64 {
+		return "", fmt.Errorf("demoplant: seed %d is above 2^63-1, the largest TOML integer", opt.Seed)
+	}
+	if opt.Seconds == 0 {
+		opt.Seconds = DefaultSeconds
+	}
+	if !(opt.Seconds >= MinSeconds && opt.Seconds <= MaxSeconds) {
+		return "", fmt.Errorf("demoplant: seconds %g outside %g … %g", opt.Seconds, MinSeconds, MaxSeconds)
+	}
+	clip := math.Min(ClipSeconds, opt.Seconds)
+	text := render(opt.Seed, clip)
+	plantPath = filepath.Join(dir, "plant.toml")
+	p, err := machine.Parse([]byte(text), plantPath)
+	if err != nil {
+		return "", fmt.Errorf("demoplant: the built-in plant does not validate: %w", err)
+	}
+	if old, rerr := os.ReadFile(plantPath); rerr == nil && !bytes.Equal(old, []byte(text)) && !opt.Overwrite {
+		return "", fmt.Errorf("%w: %s", ErrExists, plantPath)
+	}
+
+	takes, err := plan(p)
+	if err != nil {
+		return "", err
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return "", fmt.Errorf("demoplant: %w", err)
+	}
+	if err := writeAtomic(plantPath, []byte(text)); err != nil {
+		return "", err
+	}
+	s := newSynth(p, opt.Seed)
+	for _, t := range takes {
+		full := filepath.Join(dir, filepath.FromSlash(t.path))
+		if err := os.MkdirAll(filepath.Dir(full), 0o755); err != nil {
+			return "", fmt.Errorf("demoplant: %w", err)
+		}
+		seconds := opt.Seconds
+		if t.background {
+			seconds = math.Min(BackgroundSeconds, opt.Seconds)
+		}
+		x := s.take(t, seconds)
+		var b bytes.Buffer
+		if err := wavio.Encode(&b, x, p.SampleRate, 1, wavio.PCM16); err != nil {
+			return "", fmt.Errorf("demoplant: %s: %w", t.path, err)
+		}
+		if err := writeAtomic(full, b.Bytes()); err != nil {
+			return "", err
+		}
+	}
+	return plantPath, nil
+}
+
+// take is one file to synthesise.
+type take struct {
+	path       string // relative to the plant folder, slash-separated
+	m          *machine.Machine
+	c          *machine.Condition
+	near       bool   // microphone close to the machine (else far)
+	fault      string // "" or "outer-race"
+	background bool
+}
+
+// plan lists the files of the plant, in a fixed order.
+func plan(p *machine.Plant) ([]take, error) {
+	var out []take
+	for i := range p.Machines {
+		m := &p.Machines[i]
+		for j := range m.Conditions {
+			c := &m.Conditions[j]
+			base := p.Recordings + "/" + m.ID + "/" + c.Name + "/"
+			out = append(out,
+				take{path: base + "take-01.wav", m: m, c: c, near: true},
+				take{path: base + "take-02.wav", m: m, c: c})
+			if m.ID == "conveyor-c1" && c.Name == "full" {
+				// A second visit with two takes: one session folder.
+				sess := base + machine.SessionPrefix + "visit-02/"
+				out[len(out)-1].path = sess + "take-02.wav"
+				out = append(out, take{path: sess + "take-03.wav", m: m, c: c, near: true})
+			}
+			if m.ID == "pump-p1" && c.Name == "duty" {
+				out = append(out, take{path: base + machine.AnomalousDir + "/outer-race-01.wav", m: m, c: c, fault: "outer-race"})
+			}
+		}
+	}
+	if len(p.Backgrounds) != 1 {
+		return nil, fmt.Errorf("demoplant: the built-in plant has %d backgrounds, want 1", len(p.Backgrounds))
+	}
+	out = append(out, take{path: p.Backgrounds[0].Path, background: true})
+	return out, nil
+}
+
+func writeAtomic(path string, data []byte) (err error) {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return fmt.Errorf("demoplant: %w", err)
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	if _, err = f.Write(data); err != nil {
+		return fmt.Errorf("demoplant: %w", err)
+	}
+	if err = f.Chmod(0o644); err != nil {
+		return fmt.Errorf("demoplant: %w", err)
+	}
+	if err = f.Close(); err != nil {
+		return fmt.Errorf("demoplant: %w", err)
+	}
+	if err = os.Rename(f.Name(), path); err != nil {
+		return fmt.Errorf("demoplant: %w", err)
+	}
+	return nil
+}

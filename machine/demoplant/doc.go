@@ -1,0 +1,56 @@
+// Package demoplant writes an invented example plant, Weir Lane pumping
+// station, with recordings synthesised from its machine physics, so that a
+// new user can run every stage of thrum before recording anything.
+//
+// # The plant
+//
+// ExampleTOML is the commented plant.toml: a 5-vane centrifugal pump and a
+// two-stage-gearbox conveyor in a pump hall, a 9-blade axial fan in a fan
+// house, two conditions each (the fan's low speed held out), two recipes,
+// fault plans and one background recording. Write writes that file with
+// the chosen seed and the recordings it describes:
+//
+//	plant.toml
+//	recordings/<machine-id>/<condition>/take-NN.wav
+//	recordings/conveyor-c1/full/session-visit-02/take-NN.wav  (one session)
+//	recordings/pump-p1/duty/anomalous/outer-race-01.wav   (a bearing fault)
+//	backgrounds/hall-ambience.wav
+//
+// All files are 16 kHz, 16-bit PCM, mono.
+//
+// # Synthesis
+//
+// Each recording follows one shaft speed f(t) = f0·(1 + o + w(t)): f0 is the
+// condition's rpm/60, o a per-recording offset and w(t) a slow wander (three
+// sinusoids below 0.3 Hz), with |o + w| ≤ 0.65 × band_percent/100, so the
+// speed never leaves the condition's band. The shaft phase is the integral
+// of f, updated every 64 samples (4 ms); every tonal line is an exact order
+// of it, so all lines move together:
+//
+//   - shaft orders 1×…N× of every shaft, amplitude ∝ 1/k;
+//   - blade/vane pass (machine.BladePassHz) and its harmonics, with ±1×
+//     sidebands;
+//   - gear mesh of every stage (Machine.MeshHz) and harmonics, with
+//     sidebands at ± the rates of both shafts of the stage.
+//
+// Broadband parts: a structural resonance (white noise through a band-pass
+// biquad), rolling-element bearing noise (band-pass around 4 kHz) and flow
+// noise (low-passed white noise). The machine signal reaches the microphone
+// at distance d as a direct part scaled by 1/d (1 m reference) plus early
+// reflections whose delays and decay follow the room's size and a Sabine
+// estimate of its reverberation time; the reflections, mains hum (50 Hz and
+// harmonics, electrical pickup) and the room's noise floor do not depend on
+// d, so each take has its own level and direct-to-noise ratio.
+//
+// The anomalous recording adds outer-race impacts of the pump's drive-end
+// bearing at BPFO (Bearing.Rates at the instantaneous shaft rate) less 1 %
+// slip, with 1 % jitter between impacts, each ringing a 3.4 kHz resonance
+// with damping ratio 0.04. The background is broadband room noise, hum and a
+// distant, low-passed blower that is not one of the plant's machines.
+//
+// Levels are in dBFS, re a full-scale sine's peak: a take whose peak would
+// exceed −1.5 dBFS is scaled down to −1.5 dBFS. Output depends only on the
+// seed: each file draws from its own PCG stream keyed by (seed, file path),
+// and each machine's fixed character (line amplitudes and phases, resonance)
+// from a stream keyed by (seed, machine id).
+package demoplant

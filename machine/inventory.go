@@ -1,0 +1,400 @@
+package machine
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"hash"
+	"io"
+	"io/fs"
+	"math"
+	"os"
+	"path"
+	"path/filepath"
+	"sort"
+	"strings"
+
+	"thrum/machine/wavio"
+)
+
+// Folder names with a meaning inside a condition folder.
+const (
+	// AnomalousDir holds real anomalous recordings of the condition.
+	AnomalousDir = "anomalous"
+	// SessionPrefix starts a session folder: every recording below
+	// session-<name>/ shares one split group.
+	SessionPrefix = "session-"
+)
+
+// Clip is a fixed-length piece of a recording, in frames.
+type Clip struct {
+	Index  int   `json:"index"`
+	Start  int64 `json:"start"`
+	Frames int64 `json:"frames"`
+	// Pad is the number of zero frames appended (remainder = "pad").
+	Pad int64 `json:"pad,omitempty"`
+}
+
+// Levels are a recording's level statistics over all channels.
+type Levels struct {
+	RMSDBFS  float64 `json:"rms_dbfs"`
+	PeakDBFS float64 `json:"peak_dbfs"`
+	// Clipped is the fraction of samples at or beyond full scale.
+	Clipped float64 `json:"clipped"`
+	// DC is the mean sample value (full scale 1).
+	DC float64 `json:"dc"`
+}
+
+// Recording is one source file of the inventory.
+type Recording struct {
+	Machine   string `json:"machine"`
+	Condition string `json:"condition"`
+	// Rel is the path relative to the recordings root, slash-separated.
+	Rel string `json:"path"`
+	// Path is the file on disk.
+	Path    string `json:"-"`
+	Label   string `json:"label"`
+	Session string `json:"session,omitempty"`
+	// Group is the split unit: the session folder when there is one, else
+	// the recording itself.
+	Group    string       `json:"group"`
+	SHA256   string       `json:"sha256"`
+	Format   wavio.Format `json:"format"`
+	Frames   int64        `json:"frames"`
+	Seconds  float64      `json:"seconds"`
+	Clips    []Clip       `json:"clips"`
+	Levels   *Levels      `json:"levels,omitempty"`
+	Warnings []string     `json:"warnings,omitempty"`
+	// Err is why the recording cannot be used (unreadable, wrong rate).
+	Err error `json:"-"`
+}
+
+// Usable reports whether the recording can be cut into clips and processed.
+func (r *Recording) Usable() bool { return r.Err == nil && len(r.Clips) > 0 }
+
+// Problem is something a survey reports: it never stops the scan.
+type Problem struct {
+	Machine   string `json:"machine,omitempty"`
+	Condition string `json:"condition,omitempty"`
+	Path      string `json:"path,omitempty"`
+	Kind      string `json:"kind"` // unreadable, rate-mismatch, no-recordings, short, unknown-folder, warning
+	Msg       string `json:"message"`
+}
+
+func (p Problem) String() string {
+	loc := p.Path
+	if loc == "" {
+		loc = strings.Trim(p.Machine+"/"+p.Condition, "/")
+	}
+	return fmt.Sprintf("%s: %s: %s", loc, p.Kind, p.Msg)
+}
+
+// Inventory is every recording of a plant, in a stable order (machine,
+// condition as declared; paths sorted).
+type Inventory struct {
+	Plant      *Plant
+	Recordings []*Recording
+	Problems   []Problem
+}
+
+// ScanOptions tune Scan.
+type ScanOptions struct {
+	// Levels computes level statistics (RMS, peak, clipping, DC), which needs
+	// every sample decoded; hashing alone does not.
+	Levels bool
+	// Machines limits the scan to these machine ids (nil = all).
+	Machines []string
+}
+
+// Scan walks the recordings root of a plant. Unreadable files and other
+// problems are recorded and the scan goes on; only a missing root is an error.
+func Scan(p *Plant, opt ScanOptions) (*Inventory, error) {
+	root := p.RecordingsRoot()
+	if st, err := os.Stat(root); err != nil || !st.IsDir() {
+		return nil, fmt.Errorf("machine: %s: recordings root %q is not a folder", p.Path, root)
+	}
+	inv := &Inventory{Plant: p}
+	want := map[string]bool{}
+	for _, id := range opt.Machines {
+		want[id] = true
+	}
+	known := map[string]bool{}
+	for i := range p.Machines {
+		known[p.Machines[i].ID] = true
+	}
+	if ents, err := os.ReadDir(root); err == nil {
+		for _, e := range ents {
+			if e.IsDir() && !known[e.Name()] {
+				inv.Problems = append(inv.Problems, Problem{Path: e.Name(), Kind: "unknown-folder", Msg: "folder matches no machine id in the plant file"})
+			}
+		}
+	}
+	for i := range p.Machines {
+		m := &p.Machines[i]
+		if len(want) > 0 && !want[m.ID] {
+			continue
+		}
+		for j := range m.Conditions {
+			c := &m.Conditions[j]
+			dir := filepath.Join(root, m.ID, c.Name)
+			files, err := wavFiles(dir)
+			if err != nil || len(files) == 0 {
+				inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Kind: "no-recordings", Msg: "condition has no recordings (" + filepath.ToSlash(filepath.Join(m.ID, c.Name)) + "/*.wav)"})
+				continue
+			}
+			for _, f := range files {
+				rec := inv.scanOne(p, m, c, root, f, opt.Levels)
+				inv.Recordings = append(inv.Recordings, rec)
+			}
+		}
+	}
+	return inv, nil
+}
+
+func wavFiles(dir string) ([]string, error) {
+	var out []string
+	err := filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return err
+		}
+		if !d.IsDir() && strings.EqualFold(filepath.Ext(p), ".wav") {
+			out = append(out, p)
+		}
+		return nil
+	})
+	sort.Strings(out)
+	return out, err
+}
+
+func (inv *Inventory) scanOne(p *Plant, m *Machine, c *Condition, root, file string, levels bool) *Recording {
+	rel, _ := filepath.Rel(root, file)
+	rel = filepath.ToSlash(rel)
+	rec := &Recording{Machine: m.ID, Condition: c.Name, Rel: rel, Path: file, Label: LabelNormal, Group: rel}
+	inner := strings.Split(strings.TrimPrefix(rel, m.ID+"/"+c.Name+"/"), "/")
+	prefix := m.ID + "/" + c.Name
+	for _, part := range inner[:len(inner)-1] {
+		prefix = path.Join(prefix, part)
+		if part == AnomalousDir {
+			rec.Label = LabelAnomalous
+		}
+		if strings.HasPrefix(part, SessionPrefix) && rec.Session == "" {
+			rec.Session = strings.TrimPrefix(part, SessionPrefix)
+			rec.Group = prefix
+		}
+	}
+	if rec.Session != "" && rec.Label == LabelAnomalous && !strings.Contains(rec.Group, "/"+AnomalousDir) {
+		rec.Group += "/" + AnomalousDir
+	}
+	problem := func(kind, format string, a ...any) {
+		inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: rel, Kind: kind, Msg: fmt.Sprintf(format, a...)})
+	}
+	sum, lv, r, err := hashAndRead(file, levels)
+	rec.SHA256 = sum
+	if err != nil {
+		rec.Err = err
+		problem("unreadable", "%v", err)
+		return rec
+	}
+	rec.Format, rec.Frames, rec.Warnings, rec.Levels = r.Format(), r.Frames(), r.Warnings(), lv
+	for _, w := range rec.Warnings {
+		problem("warning", "%s", w)
+	}
+	rate := rec.Format.SampleRate
+	rec.Seconds = float64(rec.Frames) / float64(rate)
+	if rate != p.SampleRate {
+		rec.Err = fmt.Errorf("sample rate %d Hz, the plant's working rate is %d Hz", rate, p.SampleRate)
+		problem("rate-mismatch", "%v", rec.Err)
+		return rec
+	}
+	rec.Clips = CutClips(rec.Frames, p.ClipFrames(), p.Remainder)
+	if len(rec.Clips) == 0 {
+		problem("short", "%.2f s is shorter than one clip (%g s)", rec.Seconds, p.ClipSeconds)
+	}
+	return rec
+}
+
+// ClipFrames is the clip length in frames at the working rate.
+func (p *Plant) ClipFrames() int64 { return int64(math.Round(p.ClipSeconds * float64(p.SampleRate))) }
+
+// CutClips cuts frames into clips of n frames. The remainder is dropped, or
+// with policy "pad" kept as a zero-padded clip when it is at least half a clip.
+func CutClips(frames, n int64, policy string) []Clip {
+	var out []Clip
+	k := 0
+	for s := int64(0); s+n <= frames; s += n {
+		out = append(out, Clip{Index: k, Start: s, Frames: n})
+		k++
+	}
+	rem := frames - int64(k)*n
+	if policy == "pad" && rem > 0 && 2*rem >= n {
+		out = append(out, Clip{Index: k, Start: int64(k) * n, Frames: n, Pad: n - rem})
+	}
+	return out
+}
+
+// hashAndRead hashes the file's bytes and parses its header in one pass;
+// with levels it also decodes every sample for the level statistics.
+func hashAndRead(file string, levels bool) (string, *Levels, *wavio.Reader, error) {
+	f, err := os.Open(file)
+	if err != nil {
+		return "", nil, nil, err
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return "", nil, nil, err
+	}
+	h := sha256.New()
+	tee := io.TeeReader(f, h)
+	r, err := wavio.NewReader(tee, file, st.Size())
+	if err != nil {
+		drain(h, f)
+		return hex.EncodeToString(h.Sum(nil)), nil, nil, err
+	}
+	var lv *Levels
+	if levels {
+		lv, err = measure(r)
+		if err != nil {
+			drain(h, f)
+			return hex.EncodeToString(h.Sum(nil)), nil, nil, err
+		}
+	}
+	if err := drain(h, f); err != nil {
+		return "", nil, nil, err
+	}
+	return hex.EncodeToString(h.Sum(nil)), lv, r, nil
+}
+
+// drain hashes whatever of f has not been read yet.
+func drain(h hash.Hash, f *os.File) error {
+	_, err := io.Copy(h, f)
+	return err
+}
+
+func measure(r *wavio.Reader) (*Levels, error) {
+	ch := r.Format().Channels
+	buf := make([]float64, 8192*ch)
+	var n, clipped int64
+	var sum, sq, peak float64
+	// A sample counts as clipped at the largest code of its format: for
+	// PCM that is within one step of ±1.
+	limit := 1.0
+	if f := r.Format(); !f.Float {
+		bits := f.ValidBits
+		if bits == 0 {
+			bits = f.BitDepth
+		}
+		limit = 1 - 1.5/math.Ldexp(1, bits-1)
+	}
+	for {
+		k, err := r.ReadFrames(buf)
+		for _, x := range buf[:k*ch] {
+			sum += x
+			sq += x * x
+			a := math.Abs(x)
+			if a > peak {
+				peak = a
+			}
+			if a >= limit {
+				clipped++
+			}
+		}
+		n += int64(k * ch)
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return nil, err
+		}
+	}
+	lv := &Levels{RMSDBFS: math.Inf(-1), PeakDBFS: math.Inf(-1)}
+	if n > 0 {
+		lv.DC = sum / float64(n)
+		lv.Clipped = float64(clipped) / float64(n)
+		lv.RMSDBFS = DB(sq / float64(n))
+		lv.PeakDBFS = 20 * math.Log10(peak)
+	}
+	return lv, nil
+}
+
+// DB is 10·log10(power), −Inf for zero power.
+func DB(power float64) float64 { return 10 * math.Log10(power) }
+
+// ReadClips streams the clips of a recording in order, mixed to mono (the
+// channel mean), calling fn with each clip's samples. The slice is reused
+// between calls.
+func (r *Recording) ReadClips(fn func(c Clip, x []float64) error) error {
+	if r.Err != nil {
+		return r.Err
+	}
+	f, err := wavio.Open(r.Path)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	ch := r.Format.Channels
+	var pos int64
+	var frame []float64
+	var mono []float64
+	for _, c := range r.Clips {
+		if c.Start > pos {
+			if err := f.Skip(c.Start - pos); err != nil {
+				return err
+			}
+			pos = c.Start
+		}
+		want := c.Frames - c.Pad
+		if cap(frame) < int(want)*ch {
+			frame = make([]float64, int(want)*ch)
+		}
+		frame = frame[:int(want)*ch]
+		got := 0
+		for got < int(want) {
+			k, err := f.ReadFrames(frame[got*ch:])
+			got += k
+			if errors.Is(err, io.EOF) {
+				break
+			}
+			if err != nil {
+				return err
+			}
+		}
+		pos += int64(got)
+		if cap(mono) < int(c.Frames) {
+			mono = make([]float64, c.Frames)
+		}
+		mono = mono[:c.Frames]
+		clear(mono)
+		if ch == 1 {
+			copy(mono, frame[:got])
+		} else {
+			inv := 1 / float64(ch)
+			for i := 0; i < got; i++ {
+				var s float64
+				for k := 0; k < ch; k++ {
+					s += frame[i*ch+k]
+				}
+				mono[i] = s * inv
+			}
+		}
+		if err := fn(c, mono); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// HashFile returns the sha256 of a file's bytes, hex-encoded.
+func HashFile(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}

@@ -1,0 +1,189 @@
+package machine
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strings"
+	"text/tabwriter"
+)
+
+// SurveyRow summarises one machine id and condition.
+type SurveyRow struct {
+	Machine     string  `json:"machine"`
+	Condition   string  `json:"condition"`
+	HoldOut     bool    `json:"hold_out,omitempty"`
+	Recordings  int     `json:"recordings"`
+	Anomalous   int     `json:"anomalous"`
+	Unusable    int     `json:"unusable"`
+	Clips       int     `json:"clips"`
+	Seconds     float64 `json:"seconds"`
+	SampleRates []int   `json:"sample_rates"`
+	Channels    []int   `json:"channels"`
+	// Level statistics over the usable recordings: RMS is the power mean,
+	// peak the maximum, clipped and DC sample-weighted means.
+	RMSDBFS  *float64 `json:"rms_dbfs"`
+	PeakDBFS *float64 `json:"peak_dbfs"`
+	Clipped  float64  `json:"clipped"`
+	DC       float64  `json:"dc"`
+	Problems int      `json:"problems"`
+}
+
+// Survey is the survey report of a plant.
+type Survey struct {
+	Plant      string       `json:"plant"`
+	Rows       []SurveyRow  `json:"rows"`
+	Problems   []Problem    `json:"problems"`
+	Recordings []*Recording `json:"recordings"`
+}
+
+// Summarise builds the survey report of an inventory scanned with levels.
+func Summarise(inv *Inventory) *Survey {
+	s := &Survey{Plant: inv.Plant.Path, Problems: inv.Problems, Recordings: inv.Recordings}
+	for i := range inv.Plant.Machines {
+		m := &inv.Plant.Machines[i]
+		for j := range m.Conditions {
+			c := &m.Conditions[j]
+			row := SurveyRow{Machine: m.ID, Condition: c.Name, HoldOut: c.HoldOut}
+			rates, chans := map[int]bool{}, map[int]bool{}
+			var pw, peak, w float64
+			peak = math.Inf(-1)
+			for _, r := range inv.Recordings {
+				if r.Machine != m.ID || r.Condition != c.Name {
+					continue
+				}
+				row.Recordings++
+				if r.Label == LabelAnomalous {
+					row.Anomalous++
+				}
+				if r.Format.SampleRate > 0 {
+					rates[r.Format.SampleRate] = true
+					chans[r.Format.Channels] = true
+				}
+				if !r.Usable() {
+					row.Unusable++
+				}
+				if r.Err != nil {
+					continue
+				}
+				row.Clips += len(r.Clips)
+				row.Seconds += r.Seconds
+				if lv := r.Levels; lv != nil {
+					n := float64(r.Frames * int64(r.Format.Channels))
+					pw += math.Pow(10, lv.RMSDBFS/10) * n
+					w += n
+					peak = math.Max(peak, lv.PeakDBFS)
+					row.Clipped += lv.Clipped * n
+					row.DC += lv.DC * n
+				}
+			}
+			if w > 0 {
+				rms := DB(pw / w)
+				row.RMSDBFS, row.PeakDBFS = &rms, &peak
+				row.Clipped /= w
+				row.DC /= w
+			}
+			row.SampleRates, row.Channels = keys(rates), keys(chans)
+			for _, p := range inv.Problems {
+				if p.Machine == m.ID && p.Condition == c.Name {
+					row.Problems++
+				}
+			}
+			s.Rows = append(s.Rows, row)
+		}
+	}
+	return s
+}
+
+func keys(m map[int]bool) []int {
+	out := make([]int, 0, len(m))
+	for k := range m {
+		out = append(out, k)
+	}
+	sort.Ints(out)
+	return out
+}
+
+func ints(v []int) string {
+	s := make([]string, len(v))
+	for i, x := range v {
+		s[i] = fmt.Sprint(x)
+	}
+	if len(s) == 0 {
+		return "-"
+	}
+	return strings.Join(s, ",")
+}
+
+func dbfs(x *float64) string {
+	if x == nil || math.IsInf(*x, 0) {
+		return "-"
+	}
+	return fmt.Sprintf("%.1f", *x)
+}
+
+// WriteText renders the survey as a table followed by the problems.
+func (s *Survey) WriteText(w io.Writer) error {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "machine\tcondition\trec\tanom\tclips\tminutes\trate Hz\tch\tRMS dBFS\tpeak dBFS\tclipped %\tDC\tproblems\t")
+	for _, r := range s.Rows {
+		name := r.Condition
+		if r.HoldOut {
+			name += " (hold-out)"
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%.1f\t%s\t%s\t%s\t%s\t%.3f\t%+.4f\t%d\t\n",
+			r.Machine, name, r.Recordings, r.Anomalous, r.Clips, r.Seconds/60, ints(r.SampleRates), ints(r.Channels),
+			dbfs(r.RMSDBFS), dbfs(r.PeakDBFS), 100*r.Clipped, r.DC, r.Problems)
+	}
+	if err := tw.Flush(); err != nil {
+		return err
+	}
+	if len(s.Problems) == 0 {
+		_, err := fmt.Fprintln(w, "\nno problems found")
+		return err
+	}
+	fmt.Fprintf(w, "\n%d problem(s):\n", len(s.Problems))
+	for _, p := range s.Problems {
+		if _, err := fmt.Fprintf(w, "  %s\n", p); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// WriteJSON renders the survey as one JSON document. Infinite levels (silent
+// files) become null.
+func (s *Survey) WriteJSON(w io.Writer) error {
+	type recJSON struct {
+		*Recording
+		Error string `json:"error,omitempty"`
+	}
+	out := struct {
+		Plant      string      `json:"plant"`
+		Rows       []SurveyRow `json:"rows"`
+		Problems   []Problem   `json:"problems"`
+		Recordings []recJSON   `json:"recordings"`
+	}{Plant: s.Plant, Rows: s.Rows, Problems: s.Problems}
+	if out.Problems == nil {
+		out.Problems = []Problem{}
+	}
+	for _, r := range s.Recordings {
+		rj := recJSON{Recording: r}
+		if r.Err != nil {
+			rj.Error = r.Err.Error()
+		}
+		if lv := r.Levels; lv != nil && (math.IsInf(lv.RMSDBFS, 0) || math.IsInf(lv.PeakDBFS, 0)) {
+			c := *lv
+			c.RMSDBFS, c.PeakDBFS = math.Max(c.RMSDBFS, -400), math.Max(c.PeakDBFS, -400)
+			cp := *r
+			cp.Levels = &c
+			rj.Recording = &cp
+		}
+		out.Recordings = append(out.Recordings, rj)
+	}
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(out)
+}

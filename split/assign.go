@@ -1,0 +1,389 @@
+package split
+
+import (
+	"crypto/sha256"
+	"encoding/binary"
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"thrum/machine"
+)
+
+// Split names.
+const (
+	Train    = "train"
+	Eval     = "eval"
+	Test     = "test"
+	Excluded = "excluded"
+)
+
+// Item is one output file as the split sees it.
+type Item struct {
+	Path, SHA256, Machine, Condition, Origin, Label, Group, Source, SourceSHA256 string
+	// Speed is the total speed ratio applied (1 for a recorded clip).
+	Speed       float64
+	Backgrounds []string
+}
+
+// ItemsFromLedger turns the "output" lines of a ledger into items; other
+// lines are skipped. A missing Speed (0) is taken as 1, a missing Group as
+// the Source.
+func ItemsFromLedger(entries []machine.Entry) []Item {
+	var out []Item
+	for _, e := range entries {
+		if e.Kind != machine.EntryOutput {
+			continue
+		}
+		it := Item{
+			Path: e.Path, SHA256: e.SHA256, Machine: e.Machine, Condition: e.Condition,
+			Origin: e.Origin, Label: e.Label, Group: e.Group, Source: e.Source,
+			SourceSHA256: e.SourceSHA256, Speed: e.Speed,
+			Backgrounds: append([]string(nil), e.Backgrounds...),
+		}
+		if it.Speed == 0 {
+			it.Speed = 1
+		}
+		if it.Group == "" {
+			it.Group = it.Source
+		}
+		out = append(out, it)
+	}
+	return out
+}
+
+// Fractions are the shares of groups per split for one machine.
+type Fractions struct {
+	Train float64 `json:"train"`
+	Eval  float64 `json:"eval"`
+	Test  float64 `json:"test"`
+	// AnomalousEval is the share of real anomalous groups sent to eval; the
+	// rest go to test.
+	AnomalousEval float64 `json:"anomalous_eval"`
+}
+
+// DefaultFractions are used when a plant and a machine set none: the common
+// 70/15/15 division (common practice), anomalous groups halved between eval
+// and test.
+var DefaultFractions = Fractions{Train: 0.7, Eval: 0.15, Test: 0.15, AnomalousEval: 0.5}
+
+// ConditionPolicy is one operating condition of one machine.
+type ConditionPolicy struct {
+	Machine     string  `json:"machine"`
+	Name        string  `json:"name"`
+	RPM         float64 `json:"rpm"`
+	BandPercent float64 `json:"band_percent"`
+	HoldOut     bool    `json:"hold_out"`
+}
+
+// Band returns the condition's speed band [lo, hi] in rpm.
+func (c ConditionPolicy) Band() (lo, hi float64) {
+	return c.RPM * (1 - c.BandPercent/100), c.RPM * (1 + c.BandPercent/100)
+}
+
+// Policy is everything assignment depends on. It is written to plan.json so
+// the audit can redo the assignment from the output tree alone.
+type Policy struct {
+	Seed uint64 `json:"seed"`
+	// Default fractions; the zero value means DefaultFractions.
+	Default Fractions `json:"default"`
+	// Machines overrides the fractions per machine id.
+	Machines   map[string]Fractions `json:"machines,omitempty"`
+	Conditions []ConditionPolicy    `json:"conditions"`
+	// Backgrounds lists the plant's background ids (more may be found in
+	// the items).
+	Backgrounds []string `json:"backgrounds,omitempty"`
+}
+
+// PolicyFromPlant builds the policy of a loaded plant.
+func PolicyFromPlant(p *machine.Plant) Policy {
+	pol := Policy{Seed: p.Seed, Default: Fractions(p.Split), Machines: map[string]Fractions{}}
+	for _, m := range p.Machines {
+		if m.Split != nil {
+			pol.Machines[m.ID] = Fractions(*m.Split)
+		}
+		for _, c := range m.Conditions {
+			pol.Conditions = append(pol.Conditions, ConditionPolicy{
+				Machine: m.ID, Name: c.Name, RPM: c.RPM, BandPercent: c.BandPercent, HoldOut: c.HoldOut,
+			})
+		}
+	}
+	for _, b := range p.Backgrounds {
+		pol.Backgrounds = append(pol.Backgrounds, b.ID)
+	}
+	return pol
+}
+
+// FractionsFor returns the checked fractions of machine id.
+func (p Policy) FractionsFor(id string) (Fractions, error) {
+	f, ok := p.Machines[id]
+	if !ok {
+		f = p.Default
+	}
+	if f == (Fractions{}) {
+		return DefaultFractions, nil
+	}
+	for _, v := range []float64{f.Train, f.Eval, f.Test, f.AnomalousEval} {
+		if !(v >= 0 && v <= 1) {
+			return f, fmt.Errorf("split: machine %q: fractions must be in [0, 1], got %+v", id, f)
+		}
+	}
+	if s := f.Train + f.Eval + f.Test; math.Abs(s-1) > 1e-9 {
+		return f, fmt.Errorf("split: machine %q: train+eval+test = %g, want 1", id, s)
+	}
+	return f, nil
+}
+
+func (p Policy) condition(machineID, name string) (ConditionPolicy, bool) {
+	for _, c := range p.Conditions {
+		if c.Machine == machineID && c.Name == name {
+			return c, true
+		}
+	}
+	return ConditionPolicy{}, false
+}
+
+// HoldOutBand returns the first hold-out condition of machineID whose band
+// contains rpm.
+func (p Policy) HoldOutBand(machineID string, rpm float64) (ConditionPolicy, bool) {
+	for _, c := range p.Conditions {
+		if c.Machine != machineID || !c.HoldOut {
+			continue
+		}
+		if lo, hi := c.Band(); rpm >= lo && rpm <= hi {
+			return c, true
+		}
+	}
+	return ConditionPolicy{}, false
+}
+
+// Unit returns the stable hash of (seed, kind, machine id, key) mapped to
+// [0, 1): the first 8 bytes of SHA-256 over "thrum/split/v1", the seed
+// (8 bytes little-endian) and the three strings, each NUL-terminated, read
+// big-endian, top 53 bits divided by 2^53. It depends on nothing else, so
+// adding groups never moves existing ones.
+func Unit(seed uint64, kind, machineID, key string) float64 {
+	h := sha256.New()
+	h.Write([]byte("thrum/split/v1\x00"))
+	var b [8]byte
+	binary.LittleEndian.PutUint64(b[:], seed)
+	h.Write(b[:])
+	for _, s := range []string{kind, machineID, key} {
+		h.Write([]byte(s))
+		h.Write([]byte{0})
+	}
+	sum := h.Sum(nil)
+	return float64(binary.BigEndian.Uint64(sum[:8])>>11) / (1 << 53)
+}
+
+// pick maps u against the cumulative fractions.
+func pick(u float64, f Fractions) string {
+	switch {
+	case u < f.Train:
+		return Train
+	case u < f.Train+f.Eval:
+		return Eval
+	default:
+		return Test
+	}
+}
+
+// Row is one item with its split. Reason says which rule decided it.
+type Row struct {
+	Item
+	Split  string
+	Reason string
+}
+
+// Reasons.
+const (
+	ReasonHash          = "hash"            // normal group, by hash
+	ReasonAnomalous     = "anomalous"       // real anomalous group, eval/test by hash
+	ReasonHoldOut       = "hold-out"        // group of a hold-out condition
+	ReasonDerivedOfEval = "derived-of-eval" // derived file of an eval/test group: dropped
+	ReasonBackground    = "background-not-train"
+)
+
+// AssignBackgrounds partitions background ids with the default fractions,
+// by the same stable hash (kind "background", machine id empty).
+func AssignBackgrounds(ids []string, p Policy) map[string]string {
+	f, err := p.FractionsFor("")
+	if err != nil {
+		f = DefaultFractions
+	}
+	out := make(map[string]string, len(ids))
+	for _, id := range ids {
+		out[id] = pick(Unit(p.Seed, "background", "", id), f)
+	}
+	return out
+}
+
+type groupKey struct{ machine, group string }
+
+// Assign gives every item its split. The rules (see doc.go):
+//   - the unit is the group (machine id, Group): all its files share a split;
+//   - a group's split is pick(Unit(seed, "group", machine, group)) against
+//     the machine's cumulative train/eval/test fractions;
+//   - a group with a real anomalous recorded clip goes to eval (Unit <
+//     AnomalousEval) or test, never train;
+//   - a group with a clip in a hold-out condition goes to test;
+//   - only recorded files go to eval/test; the derived files of an eval/test
+//     group are excluded (never moved to train, which would leak it);
+//   - a training file mixed with a background that is not a train
+//     background is excluded.
+//
+// It returns an error for malformed items (duplicate path, unknown origin,
+// label or condition, empty group), for a training file whose speed (the
+// condition's rpm × Speed) lies in a hold-out band of its machine, and when
+// the normal groups of a machine and condition are fewer than the splits
+// with a non-zero fraction. Rows are sorted by machine, then path.
+func Assign(items []Item, p Policy) ([]Row, error) {
+	seen := map[string]bool{}
+	groups := map[groupKey][]int{}
+	for i, it := range items {
+		if it.Path == "" {
+			return nil, fmt.Errorf("split: item %d: empty path", i)
+		}
+		if seen[it.Path] {
+			return nil, fmt.Errorf("split: %s: listed twice", it.Path)
+		}
+		seen[it.Path] = true
+		switch it.Origin {
+		case machine.OriginRecorded, machine.OriginAugmented, machine.OriginSyntheticFault:
+		default:
+			return nil, fmt.Errorf("split: %s: unknown origin %q", it.Path, it.Origin)
+		}
+		switch it.Label {
+		case machine.LabelNormal, machine.LabelAnomalous:
+		default:
+			return nil, fmt.Errorf("split: %s: unknown label %q", it.Path, it.Label)
+		}
+		if it.Group == "" {
+			return nil, fmt.Errorf("split: %s: empty group", it.Path)
+		}
+		if _, ok := p.condition(it.Machine, it.Condition); !ok {
+			return nil, fmt.Errorf("split: %s: machine %q has no condition %q in the policy", it.Path, it.Machine, it.Condition)
+		}
+		k := groupKey{it.Machine, it.Group}
+		groups[k] = append(groups[k], i)
+	}
+	bg := AssignBackgrounds(p.Backgrounds, p)
+	bgSplit := func(id string) string {
+		if s, ok := bg[id]; ok {
+			return s
+		}
+		s := AssignBackgrounds([]string{id}, p)[id]
+		bg[id] = s
+		return s
+	}
+
+	// Normal groups per machine and condition, for the too-few check.
+	type mc struct{ machine, cond string }
+	normal := map[mc]map[string]bool{}
+	rows := make([]Row, len(items))
+	for k, idx := range groups {
+		f, err := p.FractionsFor(k.machine)
+		if err != nil {
+			return nil, err
+		}
+		anomalous, holdOut := false, false
+		for _, i := range idx {
+			it := items[i]
+			if it.Origin == machine.OriginRecorded && it.Label == machine.LabelAnomalous {
+				anomalous = true
+			}
+			if c, _ := p.condition(it.Machine, it.Condition); c.HoldOut {
+				holdOut = true
+			}
+		}
+		u := Unit(p.Seed, "group", k.machine, k.group)
+		split, reason := pick(u, f), ReasonHash
+		switch {
+		case holdOut:
+			split, reason = Test, ReasonHoldOut
+		case anomalous:
+			split, reason = Test, ReasonAnomalous
+			if u < f.AnomalousEval {
+				split = Eval
+			}
+		}
+		for _, i := range idx {
+			it := items[i]
+			r := Row{Item: it, Split: split, Reason: reason}
+			if split != Train && it.Origin != machine.OriginRecorded {
+				r.Split, r.Reason = Excluded, ReasonDerivedOfEval
+			}
+			if r.Split == Train {
+				for _, b := range it.Backgrounds {
+					if bgSplit(b) != Train {
+						r.Split, r.Reason = Excluded, ReasonBackground
+					}
+				}
+				c, _ := p.condition(it.Machine, it.Condition)
+				if h, ok := p.HoldOutBand(it.Machine, c.RPM*it.Speed); ok {
+					return nil, fmt.Errorf("split: %s: training file at %.6g rpm (condition %q %g rpm × speed %g) lies in the band of hold-out condition %q (%g rpm ± %g %%)",
+						it.Path, c.RPM*it.Speed, c.Name, c.RPM, it.Speed, h.Name, h.RPM, h.BandPercent)
+				}
+			}
+			if !holdOut && !anomalous && it.Origin == machine.OriginRecorded {
+				key := mc{it.Machine, it.Condition}
+				if normal[key] == nil {
+					normal[key] = map[string]bool{}
+				}
+				normal[key][it.Group] = true
+			}
+			rows[i] = r
+		}
+	}
+	// Too few groups: a deterministic order for the error message.
+	keys := make([]mc, 0, len(normal))
+	for k := range normal {
+		keys = append(keys, k)
+	}
+	sort.Slice(keys, func(i, j int) bool {
+		if keys[i].machine != keys[j].machine {
+			return keys[i].machine < keys[j].machine
+		}
+		return keys[i].cond < keys[j].cond
+	})
+	for _, k := range keys {
+		f, _ := p.FractionsFor(k.machine)
+		var need []string
+		for _, s := range []struct {
+			name string
+			v    float64
+		}{{Train, f.Train}, {Eval, f.Eval}, {Test, f.Test}} {
+			if s.v > 0 {
+				need = append(need, s.name)
+			}
+		}
+		if n := len(normal[k]); n < len(need) {
+			return nil, &TooFewGroupsError{Machine: k.machine, Condition: k.cond, Groups: n, Splits: need}
+		}
+	}
+	sortRows(rows)
+	return rows, nil
+}
+
+// TooFewGroupsError says a machine and condition has fewer normal groups
+// than splits to fill.
+type TooFewGroupsError struct {
+	Machine, Condition string
+	Groups             int
+	Splits             []string
+}
+
+func (e *TooFewGroupsError) Error() string {
+	return fmt.Sprintf("split: machine %q condition %q: %d normal recording group(s) cannot fill the %d splits with a non-zero fraction (%s); record more sessions or set that split's fraction to 0",
+		e.Machine, e.Condition, e.Groups, len(e.Splits), strings.Join(e.Splits, ", "))
+}
+
+func sortRows(rows []Row) {
+	sort.Slice(rows, func(i, j int) bool {
+		if rows[i].Machine != rows[j].Machine {
+			return rows[i].Machine < rows[j].Machine
+		}
+		return rows[i].Path < rows[j].Path
+	})
+}

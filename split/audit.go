@@ -1,0 +1,529 @@
+package split
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+
+	"thrum/machine"
+	"thrum/machine/wavio"
+)
+
+// Leakage types, named after the taxonomy of Kapoor & Narayanan (2023),
+// "Leakage and the reproducibility crisis in machine-learning-based
+// science", Patterns 4(9), 100804 (the L-numbers are from memory).
+const (
+	LeakNoCleanSplit   = "no clean train/test split (L1.1)"
+	LeakPreprocessing  = "pre-processing on train and test data together (L1.2)"
+	LeakDuplicates     = "duplicates across train and test (L1.4)"
+	LeakNonIndependent = "non-independence between train and test samples (L3.2)"
+	LeakSamplingBias   = "test set not drawn from the distribution of interest (L3.3)"
+)
+
+// Audit rules.
+const (
+	RuleListed        = "listed-file-exists-and-matches"
+	RuleReDerived     = "lists-match-re-derived-assignment"
+	RuleRecordedEval  = "eval-test-file-is-a-recorded-clip"
+	RuleOriginTrain   = "derived-files-training-only"
+	RuleGroupOneSplit = "group-in-one-split"
+	RuleSourceOne     = "source-recording-in-one-split"
+	RuleAnomalous     = "real-anomalies-not-in-training"
+	RuleHoldOut       = "hold-out-condition-intact"
+	RuleHoldOutBand   = "no-training-speed-in-hold-out-band"
+	RuleStats         = "statistics-fitted-on-training-only"
+	RuleBackgrounds   = "backgrounds-partitioned"
+	RuleExactDup      = "no-identical-file-across-splits"
+	RuleNearDup       = "no-near-duplicate-across-splits"
+)
+
+// ruleLeak maps each rule to the leakage type it guards against.
+var ruleLeak = map[string]string{
+	RuleListed:        LeakNoCleanSplit,
+	RuleReDerived:     LeakNoCleanSplit,
+	RuleRecordedEval:  LeakSamplingBias,
+	RuleOriginTrain:   LeakSamplingBias,
+	RuleGroupOneSplit: LeakNonIndependent,
+	RuleSourceOne:     LeakNonIndependent,
+	RuleAnomalous:     LeakNoCleanSplit,
+	RuleHoldOut:       LeakNonIndependent,
+	RuleHoldOutBand:   LeakNonIndependent,
+	RuleStats:         LeakPreprocessing,
+	RuleBackgrounds:   LeakNonIndependent,
+	RuleExactDup:      LeakDuplicates,
+	RuleNearDup:       LeakDuplicates,
+}
+
+// Violation is one broken rule.
+type Violation struct {
+	Rule    string   `json:"rule"`
+	Leakage string   `json:"leakage"`
+	Files   []string `json:"files"`
+	Detail  string   `json:"detail"`
+}
+
+// String is the report line: rule, leakage type, files, detail.
+func (v Violation) String() string {
+	return fmt.Sprintf("%s [%s]: %s: %s", v.Rule, v.Leakage, strings.Join(v.Files, ", "), v.Detail)
+}
+
+// Report is the audit's result.
+type Report struct {
+	Violations []Violation `json:"violations"`
+	// Checked counts the files (or groups, stats files) each rule looked at.
+	Checked map[string]int `json:"checked"`
+	// Covered lists the leakage types the rules that ran guard against.
+	Covered []string `json:"covered"`
+	// NearDuplicate search figures.
+	Queries int `json:"queries,omitempty"`
+	Indexed int `json:"indexed,omitempty"`
+}
+
+// OK reports whether no rule was broken.
+func (r *Report) OK() bool { return len(r.Violations) == 0 }
+
+// WriteText writes one line per violation, then a one-line verdict.
+func (r *Report) WriteText(w io.Writer) error {
+	for _, v := range r.Violations {
+		if _, err := fmt.Fprintln(w, v.String()); err != nil {
+			return err
+		}
+	}
+	verdict := "ok"
+	if !r.OK() {
+		verdict = fmt.Sprintf("%d violation(s)", len(r.Violations))
+	}
+	_, err := fmt.Fprintf(w, "audit: %s; leakage types checked: %s\n", verdict, strings.Join(r.Covered, "; "))
+	return err
+}
+
+func (r *Report) add(rule, detail string, files ...string) {
+	r.Violations = append(r.Violations, Violation{Rule: rule, Leakage: ruleLeak[rule], Files: files, Detail: detail})
+}
+
+func (r *Report) ran(rule string, n int) {
+	if r.Checked == nil {
+		r.Checked = map[string]int{}
+	}
+	r.Checked[rule] += n
+}
+
+func (r *Report) finish() {
+	set := map[string]bool{}
+	for rule := range r.Checked {
+		set[ruleLeak[rule]] = true
+	}
+	r.Covered = r.Covered[:0]
+	for l := range set {
+		r.Covered = append(r.Covered, l)
+	}
+	sort.Strings(r.Covered)
+	sort.SliceStable(r.Violations, func(i, j int) bool { return r.Violations[i].Rule < r.Violations[j].Rule })
+}
+
+// LoadFunc reads an audio file as mono samples and its sample rate.
+type LoadFunc func(path string) ([]float64, float64, error)
+
+// LoadWAV reads a WAV file with wavio and mixes it to mono.
+func LoadWAV(path string) ([]float64, float64, error) {
+	a, err := wavio.ReadFile(path)
+	if err != nil {
+		return nil, 0, err
+	}
+	return a.Mono(nil), float64(a.Format.SampleRate), nil
+}
+
+// AuditOptions tune Audit and AuditLists. The zero value runs every rule.
+type AuditOptions struct {
+	// SkipNearDuplicates turns the fingerprint search off (it reads every
+	// listed audio file).
+	SkipNearDuplicates bool
+	// MaxBER is the near-duplicate threshold (0 means DefaultMaxBER).
+	MaxBER float64
+	// Load reads audio (nil means LoadWAV).
+	Load LoadFunc
+}
+
+func (o AuditOptions) load() LoadFunc {
+	if o.Load != nil {
+		return o.Load
+	}
+	return LoadWAV
+}
+
+// Audit re-derives the evaluation safety of the output tree out from its
+// files alone: OUT/<machine>/ledger.jsonl, OUT/splits/{lists.csv,plan.json},
+// OUT/features/<machine>/stats.json and the audio. It returns an error only
+// when the tree cannot be read; broken rules are violations in the report.
+func Audit(out string, opt AuditOptions) (*Report, error) {
+	rows, plan, err := ReadSplits(out)
+	if err != nil {
+		return nil, err
+	}
+	entries, err := readLedgers(out)
+	if err != nil {
+		return nil, err
+	}
+	rep := &Report{}
+	byPath := map[string]machine.Entry{}
+	recordedHash := map[string]bool{}
+	for _, e := range entries {
+		if e.Kind != machine.EntryOutput {
+			continue
+		}
+		byPath[e.Path] = e
+		if e.Origin == machine.OriginRecorded {
+			recordedHash[e.SHA256] = true
+		}
+	}
+
+	// Re-derive the assignment and compare.
+	want, aerr := Assign(ItemsFromLedger(entries), plan.Policy)
+	if aerr != nil {
+		rep.add(RuleReDerived, "the ledgers cannot be assigned under plan.json: "+aerr.Error(), filepath.ToSlash(filepath.Join(SplitsDir, PlanFile)))
+	} else {
+		listed := map[string]string{}
+		for _, r := range rows {
+			listed[r.Path] = r.Split
+		}
+		for _, w := range want {
+			got, ok := listed[w.Path]
+			switch {
+			case !ok:
+				rep.add(RuleReDerived, "in the ledger but not in lists.csv (want "+w.Split+")", w.Path)
+			case got != w.Split:
+				rep.add(RuleReDerived, fmt.Sprintf("listed in %s, re-derived assignment says %s (%s)", got, w.Split, w.Reason), w.Path)
+			}
+		}
+		rep.ran(RuleReDerived, len(want))
+	}
+
+	active := rows[:0:0]
+	for _, r := range rows {
+		if r.Split != Excluded {
+			active = append(active, r)
+		}
+	}
+	// Every listed file exists, matches its listed hash and its ledger line.
+	hashes := map[string]string{}
+	for _, r := range active {
+		b, err := os.ReadFile(filepath.Join(out, filepath.FromSlash(r.Path)))
+		if err != nil {
+			rep.add(RuleListed, "cannot read: "+err.Error(), r.Path)
+			continue
+		}
+		s := sha256.Sum256(b)
+		h := hex.EncodeToString(s[:])
+		hashes[r.Path] = h
+		if h != r.SHA256 {
+			rep.add(RuleListed, "sha256 on disk "+h[:12]+"… differs from the listed "+short(r.SHA256), r.Path)
+		}
+		e, ok := byPath[r.Path]
+		if !ok {
+			rep.add(RuleListed, "listed but in no ledger", r.Path)
+		} else if e.SHA256 != h {
+			rep.add(RuleListed, "sha256 on disk differs from the ledger's "+short(e.SHA256), r.Path)
+		}
+		if r.Split != Train {
+			rep.ran(RuleRecordedEval, 1)
+			if !recordedHash[h] {
+				rep.add(RuleRecordedEval, r.Split+" file's content is not a recorded clip of any ledger", r.Path)
+			}
+		}
+	}
+	rep.ran(RuleListed, len(active))
+	ledgerOrigin := func(r Row) (string, string) {
+		if e, ok := byPath[r.Path]; ok {
+			return e.Origin, e.Label
+		}
+		return r.Origin, r.Label
+	}
+	checkRows(rep, active, plan, ledgerOrigin, hashes)
+
+	// Statistics fitted on training only.
+	split := map[string]string{}
+	for _, r := range rows {
+		split[r.Path] = r.Split
+	}
+	statFiles, _ := filepath.Glob(filepath.Join(out, "features", "*", "stats.json"))
+	sort.Strings(statFiles)
+	for _, sf := range statFiles {
+		rel := relSlash(out, sf)
+		b, err := os.ReadFile(sf)
+		if err != nil {
+			return nil, fmt.Errorf("split: %w", err)
+		}
+		var st struct {
+			Machine string   `json:"machine"`
+			Inputs  []string `json:"inputs"`
+		}
+		if err := json.Unmarshal(b, &st); err != nil {
+			rep.add(RuleStats, "unreadable: "+err.Error(), rel)
+			continue
+		}
+		rep.ran(RuleStats, 1)
+		for _, in := range st.Inputs {
+			if s := split[in]; s != Train {
+				if s == "" {
+					s = "no split"
+				}
+				rep.add(RuleStats, "normalisation statistics fitted on a file of "+s, rel, in)
+			}
+		}
+	}
+
+	if !opt.SkipNearDuplicates {
+		var train, other []string
+		for _, r := range active {
+			if _, err := os.Stat(filepath.Join(out, filepath.FromSlash(r.Path))); err != nil {
+				continue
+			}
+			if r.Split == Train {
+				train = append(train, r.Path)
+			} else {
+				other = append(other, r.Path)
+			}
+		}
+		if err := nearDuplicates(rep, out, train, other, opt); err != nil {
+			return nil, err
+		}
+	}
+	rep.finish()
+	return rep, nil
+}
+
+// checkRows applies the rules that need only the rows and the plan.
+func checkRows(rep *Report, rows []Row, plan Plan, origin func(Row) (string, string), hashes map[string]string) {
+	groupSplit := map[string]map[string][]string{}
+	sourceSplit := map[string]map[string][]string{}
+	add := func(m map[string]map[string][]string, k, s, path string) {
+		if m[k] == nil {
+			m[k] = map[string][]string{}
+		}
+		m[k][s] = append(m[k][s], path)
+	}
+	bg := plan.Backgrounds
+	for _, r := range rows {
+		o, l := origin(r)
+		add(groupSplit, r.Machine+"\x00"+r.Group, r.Split, r.Path)
+		if r.SourceSHA256 != "" {
+			add(sourceSplit, r.SourceSHA256, r.Split, r.Path)
+		}
+		if r.Split != Train && o != machine.OriginRecorded {
+			rep.add(RuleOriginTrain, o+" file in "+r.Split, r.Path)
+		}
+		if r.Split == Train && o == machine.OriginRecorded && l == machine.LabelAnomalous {
+			rep.add(RuleAnomalous, "real anomalous recording in train", r.Path)
+		}
+		if r.Split == Train {
+			c, ok := plan.Policy.condition(r.Machine, r.Condition)
+			if ok && c.HoldOut {
+				rep.add(RuleHoldOut, "training file from hold-out condition "+c.Name, r.Path)
+			} else if ok {
+				if h, in := plan.Policy.HoldOutBand(r.Machine, c.RPM*r.Speed); in {
+					rep.add(RuleHoldOutBand, fmt.Sprintf("training file at %.6g rpm lies in hold-out condition %s's band %g rpm ± %g %%", c.RPM*r.Speed, h.Name, h.RPM, h.BandPercent), r.Path)
+				}
+			}
+		}
+		for _, b := range r.Backgrounds {
+			s, ok := bg[b]
+			switch {
+			case !ok:
+				rep.add(RuleBackgrounds, "background "+b+" is not in the partition", r.Path)
+			case r.Split == Train && s != Train:
+				rep.add(RuleBackgrounds, "training file mixed with "+s+" background "+b, r.Path)
+			case r.Split != Train && s == Train:
+				rep.add(RuleBackgrounds, r.Split+" file mixed with training background "+b, r.Path)
+			}
+		}
+	}
+	rep.ran(RuleOriginTrain, len(rows))
+	rep.ran(RuleAnomalous, len(rows))
+	rep.ran(RuleHoldOut, len(rows))
+	rep.ran(RuleHoldOutBand, len(rows))
+	rep.ran(RuleBackgrounds, len(rows))
+	spans := func(rule, what string, m map[string]map[string][]string) {
+		keys := make([]string, 0, len(m))
+		for k := range m {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		for _, k := range keys {
+			if len(m[k]) < 2 {
+				continue
+			}
+			var files, names []string
+			for _, s := range []string{Train, Eval, Test} {
+				if p := m[k][s]; len(p) > 0 {
+					names = append(names, s)
+					files = append(files, p[0])
+				}
+			}
+			rep.add(rule, fmt.Sprintf("%s %s spans %s", what, strings.ReplaceAll(k, "\x00", "/"), strings.Join(names, " and ")), files...)
+		}
+		rep.ran(rule, len(m))
+	}
+	spans(RuleGroupOneSplit, "group", groupSplit)
+	spans(RuleSourceOne, "source recording", sourceSplit)
+	// Identical bytes on both sides of the boundary.
+	byHash := map[string]map[string][]string{}
+	for _, r := range rows {
+		if h := hashes[r.Path]; h != "" {
+			side := Train
+			if r.Split != Train {
+				side = "eval/test"
+			}
+			add(byHash, h, side, r.Path)
+		}
+	}
+	for _, h := range sortedKeys(byHash) {
+		if len(byHash[h]) == 2 {
+			rep.add(RuleExactDup, "identical content in train and eval/test", byHash[h][Train][0], byHash[h]["eval/test"][0])
+		}
+	}
+	rep.ran(RuleExactDup, len(byHash))
+}
+
+// AuditLists runs the near-duplicate search between two sets of audio files
+// with no ledger or plan: every eval file against every training file. It
+// also flags byte-identical files.
+func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, error) {
+	rep := &Report{}
+	hashes := map[string]string{}
+	for _, p := range append(append([]string(nil), trainPaths...), evalPaths...) {
+		b, err := os.ReadFile(p)
+		if err != nil {
+			return nil, fmt.Errorf("split: %w", err)
+		}
+		s := sha256.Sum256(b)
+		hashes[p] = hex.EncodeToString(s[:])
+	}
+	byHash := map[string][]string{}
+	for _, p := range trainPaths {
+		byHash[hashes[p]] = append(byHash[hashes[p]], p)
+	}
+	for _, p := range evalPaths {
+		if t := byHash[hashes[p]]; len(t) > 0 {
+			rep.add(RuleExactDup, "identical content in train and eval/test", t[0], p)
+		}
+	}
+	rep.ran(RuleExactDup, len(evalPaths))
+	if !opt.SkipNearDuplicates {
+		if err := nearDuplicates(rep, "", trainPaths, evalPaths, opt); err != nil {
+			return nil, err
+		}
+	}
+	rep.finish()
+	return rep, nil
+}
+
+// nearDuplicates indexes the training files' prints and queries each eval
+// file's. Paths are joined to root when root is not empty.
+func nearDuplicates(rep *Report, root string, train, eval []string, opt AuditOptions) error {
+	load := opt.load()
+	fps := map[float64]*Fingerprinter{}
+	printOf := func(p string) (Print, error) {
+		full := p
+		if root != "" {
+			full = filepath.Join(root, filepath.FromSlash(p))
+		}
+		x, fs, err := load(full)
+		if err != nil {
+			return Print{}, fmt.Errorf("split: %s: %w", p, err)
+		}
+		if fs < 4000 {
+			return Print{}, fmt.Errorf("split: %s: sample rate %g Hz too low to fingerprint", p, fs)
+		}
+		f := fps[fs]
+		if f == nil {
+			f = NewFingerprinter(fs)
+			fps[fs] = f
+		}
+		return f.Print(Print{}, x), nil
+	}
+	// One index per frame hop, so prints at different rates never mix.
+	idx := map[float64]*Index{}
+	for _, p := range train {
+		pr, err := printOf(p)
+		if err != nil {
+			return err
+		}
+		ix := idx[pr.Hop]
+		if ix == nil {
+			ix = NewIndex()
+			ix.MaxBER = opt.MaxBER
+			idx[pr.Hop] = ix
+		}
+		ix.Add(p, pr)
+	}
+	rep.Indexed = len(train)
+	for _, p := range eval {
+		pr, err := printOf(p)
+		if err != nil {
+			return err
+		}
+		rep.Queries++
+		ix := idx[pr.Hop]
+		if ix == nil {
+			continue
+		}
+		for _, m := range ix.Query(pr) {
+			rep.add(RuleNearDup, fmt.Sprintf("near-duplicate: fingerprint BER %.3f at offset %.3f s", m.BER, float64(m.Offset)*pr.Hop), m.ID, p)
+		}
+	}
+	rep.ran(RuleNearDup, len(eval))
+	return nil
+}
+
+// readLedgers reads every OUT/*/ledger.jsonl, in name order.
+func readLedgers(out string) ([]machine.Entry, error) {
+	files, err := filepath.Glob(filepath.Join(out, "*", "ledger.jsonl"))
+	if err != nil {
+		return nil, fmt.Errorf("split: %w", err)
+	}
+	sort.Strings(files)
+	var all []machine.Entry
+	for _, f := range files {
+		r, err := os.Open(f)
+		if err != nil {
+			return nil, fmt.Errorf("split: %w", err)
+		}
+		e, err := machine.ReadLedger(r, f)
+		r.Close()
+		if err != nil {
+			return nil, fmt.Errorf("split: %w", err)
+		}
+		all = append(all, e...)
+	}
+	return all, nil
+}
+
+func relSlash(root, p string) string {
+	r, err := filepath.Rel(root, p)
+	if err != nil {
+		return p
+	}
+	return filepath.ToSlash(r)
+}
+
+func short(h string) string {
+	if len(h) > 12 {
+		return h[:12] + "…"
+	}
+	return h
+}
+
+func sortedKeys[V any](m map[string]V) []string {
+	k := make([]string, 0, len(m))
+	for s := range m {
+		k = append(k, s)
+	}
+	sort.Strings(k)
+	return k
+}

@@ -1,0 +1,277 @@
+package split
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"thrum/machine"
+	"thrum/machine/wavio"
+)
+
+// writeTree writes an output tree: one machine, 12 recordings of 3 s at
+// 16 kHz, one augmented variant each (gain), ledgers, lists and stats.
+func writeTree(t *testing.T, dir string) ([]Row, Policy) {
+	t.Helper()
+	const fs = 16000
+	rng := rand.New(rand.NewPCG(3, 4))
+	mm := newMachineModel(rng, fs)
+	p := Policy{Seed: 42, Conditions: []ConditionPolicy{{Machine: "pump-a1", Name: "nominal", RPM: 1480, BandPercent: 3},
+		{Machine: "pump-a1", Name: "fast", RPM: 1800, BandPercent: 2, HoldOut: true}}, Backgrounds: []string{"hall", "yard", "dock", "roof", "pit", "gate"}}
+	bg := AssignBackgrounds(p.Backgrounds, p)
+	var trainBG string
+	for _, id := range p.Backgrounds {
+		if bg[id] == Train {
+			trainBG = id
+			break
+		}
+	}
+	var ledger bytes.Buffer
+	write := func(e machine.Entry, x []float64) {
+		full := filepath.Join(dir, filepath.FromSlash(e.Path))
+		os.MkdirAll(filepath.Dir(full), 0o755)
+		if err := wavio.WriteFile(full, x, fs, 1, wavio.PCM16); err != nil {
+			t.Fatal(err)
+		}
+		e.SHA256 = fileHash(t, full)
+		e.Kind = machine.EntryOutput
+		b, _ := json.Marshal(e)
+		ledger.Write(append(b, '\n'))
+	}
+	for g := range 12 {
+		cond := "nominal"
+		if g >= 10 {
+			cond = "fast"
+		}
+		x := mm.record(rng, 3)
+		src := fmt.Sprintf("pump-a1/%s/rec%02d.wav", cond, g)
+		base := machine.Entry{Source: src, SourceSHA256: fmt.Sprintf("src%02d", g), Machine: "pump-a1", Condition: cond,
+			Label: machine.LabelNormal, Group: src, Speed: 1, SampleRate: fs}
+		rec := base
+		rec.Path, rec.Origin = fmt.Sprintf("pump-a1/%s/rec%02d-c0.wav", cond, g), machine.OriginRecorded
+		write(rec, x)
+		aug := base
+		aug.Path, aug.Origin, aug.Variant, aug.Speed = fmt.Sprintf("pump-a1/%s/rec%02d-c0-v1.wav", cond, g), machine.OriginAugmented, 1, 1.01
+		aug.Backgrounds = []string{trainBG}
+		write(aug, applyGain(x, -3))
+	}
+	if err := os.WriteFile(filepath.Join(dir, "pump-a1", "ledger.jsonl"), ledger.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	entries, err := readLedgers(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, err := Assign(ItemsFromLedger(entries), p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := WriteSplits(dir, rows, p); err != nil {
+		t.Fatal(err)
+	}
+	var inputs []string
+	for _, r := range rows {
+		if r.Split == Train {
+			inputs = append(inputs, r.Path)
+		}
+	}
+	writeStats(t, dir, inputs)
+	return rows, p
+}
+
+func writeStats(t *testing.T, dir string, inputs []string) {
+	b, _ := json.Marshal(map[string]any{"machine": "pump-a1", "inputs": inputs})
+	os.MkdirAll(filepath.Join(dir, "features", "pump-a1"), 0o755)
+	if err := os.WriteFile(filepath.Join(dir, "features", "pump-a1", "stats.json"), b, 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func fileHash(t *testing.T, p string) string {
+	b, err := os.ReadFile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := sha256.Sum256(b)
+	return hex.EncodeToString(s[:])
+}
+
+func TestAuditClean(t *testing.T) {
+	dir := t.TempDir()
+	writeTree(t, dir)
+	rep, err := Audit(dir, AuditOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	rep.WriteText(&buf)
+	if !rep.OK() {
+		t.Fatalf("clean tree fails the audit:\n%s", buf.String())
+	}
+	if rep.Queries == 0 || rep.Indexed == 0 {
+		t.Fatalf("near-duplicate search did not run: %+v", rep)
+	}
+	t.Logf("%s", buf.String())
+}
+
+// TestAuditLeaks writes a tree, injects one leak of each kind, and checks
+// the report names each with its rule and file.
+func TestAuditLeaks(t *testing.T) {
+	dir := t.TempDir()
+	rows, p := writeTree(t, dir)
+	var evalRec, trainAug, excluded, trainRec *Row
+	for i := range rows {
+		r := &rows[i]
+		switch {
+		case r.Split != Train && r.Split != Excluded && r.Condition == "nominal" && evalRec == nil:
+			evalRec = r
+		case r.Split == Train && r.Origin == machine.OriginAugmented && trainAug == nil:
+			trainAug = r
+		case r.Split == Excluded && r.Condition == "nominal" && excluded == nil:
+			excluded = r
+		case r.Split == Train && r.Origin == machine.OriginRecorded && trainRec == nil:
+			trainRec = r
+		}
+	}
+	if evalRec == nil || trainAug == nil || excluded == nil || trainRec == nil {
+		t.Fatal("tree lacks an eval clip, a training variant or an excluded variant")
+	}
+	bg := AssignBackgrounds(p.Backgrounds, p)
+	var testBG string
+	for id, s := range bg {
+		if s != Train {
+			testBG = id
+		}
+	}
+	// 1. A gain/shift-changed copy of an eval clip smuggled into training.
+	a, err := wavio.ReadFile(filepath.Join(dir, evalRec.Path))
+	if err != nil {
+		t.Fatal(err)
+	}
+	leak := applyShift(applyGain(a.Mono(nil), 4), 2000)
+	leakPath := "pump-a1/nominal/extra-take.wav"
+	if err := wavio.WriteFile(filepath.Join(dir, leakPath), leak, 16000, 1, wavio.PCM16); err != nil {
+		t.Fatal(err)
+	}
+	leakRow := Row{Item: Item{Path: leakPath, SHA256: fileHash(t, filepath.Join(dir, leakPath)), Machine: "pump-a1", Condition: "nominal",
+		Origin: machine.OriginRecorded, Label: machine.LabelNormal, Group: "extra-take", SourceSHA256: "extra", Speed: 1}, Split: Train}
+	// 2. A derived file of an eval group moved into train.
+	excluded.Split = Train
+	// 3. An augmented file in test.
+	trainAug.Split = Test
+	// 4. A training file mixed with a non-training background.
+	trainRec.Backgrounds = []string{testBG}
+	// 5. An eval clip altered on disk.
+	var other *Row
+	for i := range rows {
+		if rows[i].Split == Eval || rows[i].Split == Test {
+			if rows[i].Path != evalRec.Path && rows[i].Origin == machine.OriginRecorded && rows[i].Condition == "nominal" {
+				other = &rows[i]
+			}
+		}
+	}
+	if other == nil {
+		t.Fatal("need two eval/test recorded clips")
+	}
+	tampered := filepath.Join(dir, other.Path)
+	b, _ := os.ReadFile(tampered)
+	b[len(b)-1] ^= 0x55
+	os.WriteFile(tampered, b, 0o644)
+	// 6. A hold-out clip listed as train.
+	var hold *Row
+	for i := range rows {
+		if rows[i].Condition == "fast" && rows[i].Origin == machine.OriginRecorded {
+			hold = &rows[i]
+			break
+		}
+	}
+	hold.Split = Train
+	rows = append(rows, leakRow)
+	var buf bytes.Buffer
+	if err := WriteListsCSV(&buf, rows); err != nil {
+		t.Fatal(err)
+	}
+	WriteFileAtomic(filepath.Join(dir, SplitsDir, ListsFile), buf.Bytes())
+	// 7. Statistics fitted on an eval clip as well.
+	writeStats(t, dir, []string{trainRec.Path, evalRec.Path})
+
+	rep, err := Audit(dir, AuditOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	buf.Reset()
+	rep.WriteText(&buf)
+	text := buf.String()
+	t.Logf("report:\n%s", text)
+	if rep.OK() {
+		t.Fatal("leaked tree passes the audit")
+	}
+	for _, want := range []struct{ rule, file string }{
+		{RuleNearDup, leakPath},
+		{RuleGroupOneSplit, excluded.Path},
+		{RuleOriginTrain, trainAug.Path},
+		{RuleBackgrounds, trainRec.Path},
+		{RuleListed, other.Path},
+		{RuleRecordedEval, other.Path},
+		{RuleHoldOut, hold.Path},
+		{RuleStats, evalRec.Path},
+		{RuleReDerived, excluded.Path},
+	} {
+		found := false
+		for _, v := range rep.Violations {
+			if v.Rule == want.rule && strings.Contains(strings.Join(v.Files, " "), want.file) {
+				found = true
+			}
+		}
+		if !found {
+			t.Errorf("no %s violation naming %s", want.rule, want.file)
+		}
+	}
+}
+
+func TestAuditLists(t *testing.T) {
+	dir := t.TempDir()
+	rng := rand.New(rand.NewPCG(9, 10))
+	mm := newMachineModel(rng, 16000)
+	var train, eval []string
+	for i := range 8 {
+		x := mm.record(rng, 3)
+		p := filepath.Join(dir, fmt.Sprintf("train%d.wav", i))
+		wavio.WriteFile(p, x, 16000, 1, wavio.PCM16)
+		train = append(train, p)
+		if i < 2 { // two leaked copies after noise at 10 dB SNR
+			q := filepath.Join(dir, fmt.Sprintf("eval-leak%d.wav", i))
+			wavio.WriteFile(q, applyNoise(x, rng, 10), 16000, 1, wavio.PCM16)
+			eval = append(eval, q)
+		}
+	}
+	for i := range 6 {
+		q := filepath.Join(dir, fmt.Sprintf("eval%d.wav", i))
+		wavio.WriteFile(q, mm.record(rng, 3), 16000, 1, wavio.PCM16)
+		eval = append(eval, q)
+	}
+	rep, err := AuditLists(train, eval, AuditOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var flagged []string
+	for _, v := range rep.Violations {
+		flagged = append(flagged, v.Files...)
+	}
+	got := strings.Join(flagged, " ")
+	for i := range 2 {
+		if !strings.Contains(got, fmt.Sprintf("eval-leak%d.wav", i)) {
+			t.Errorf("leak %d not flagged", i)
+		}
+	}
+	if n := len(rep.Violations); n != 2 {
+		t.Errorf("%d violations, want 2: %v", n, rep.Violations)
+	}
+}

@@ -1,0 +1,211 @@
+package split
+
+import (
+	"math"
+	"math/bits"
+
+	"thrum/features/fft"
+)
+
+// Fingerprint parameters (see doc.go, "Near-duplicate fingerprint").
+const (
+	// fpFrameSeconds is the analysis frame; it is rounded up to a power of
+	// two in samples (512 at 16 kHz).
+	fpFrameSeconds = 0.030
+	// fpHopFraction is the hop as a fraction of the frame (1/2: 16 ms at 16 kHz).
+	fpHopDiv = 2
+	// fpBands is the number of bands; adjacent pairs give 32 bits per frame.
+	fpBands = 33
+	// fpLowHz and fpHighHz bound the bands (the top is also capped at 0.45 fs).
+	fpLowHz  = 300
+	fpHighHz = 6000
+	// fpSmooth is the length, in frames, of the Hann-weighted moving sum
+	// that turns frame energies into smooth band envelopes (~0.5 s).
+	fpSmooth = 32
+	// fpLag is the time step of the difference, in frames (64 ms).
+	fpLag = 4
+)
+
+// Print is the fingerprint of one clip: one 32-bit sub-fingerprint per frame,
+// in the manner of Haitsma & Kalker (2002).
+type Print struct {
+	Words []uint32
+	// Hop is the frame hop in seconds.
+	Hop float64
+}
+
+// Fingerprinter computes prints at one sample rate. It holds its FFT plan and
+// scratch buffers, so it is not safe for concurrent use: use one per worker.
+type Fingerprinter struct {
+	fs    float64
+	n     int
+	hop   int
+	win   []float64
+	lo    []int // first bin of each band
+	hi    []int // one past the last bin of each band
+	fft   *fft.Real
+	frame []float64
+	pow   []float64
+	raw   []float64
+	sm    []float64
+	tw    []float64
+}
+
+// NewFingerprinter returns a fingerprinter for sample rate fs in Hz. It
+// panics if fs < 4000 (a caller contract: the bands need at least 2 kHz of
+// bandwidth).
+func NewFingerprinter(fs float64) *Fingerprinter {
+	if !(fs >= 4000) {
+		panic("split: fingerprint sample rate below 4 kHz")
+	}
+	n := 1
+	for float64(n) < fpFrameSeconds*fs {
+		n *= 2
+	}
+	f := &Fingerprinter{fs: fs, n: n, hop: n / fpHopDiv}
+	// Periodic Hann window.
+	f.win = make([]float64, n)
+	for i := range f.win {
+		f.win[i] = 0.5 - 0.5*math.Cos(2*math.Pi*float64(i)/float64(n))
+	}
+	high := math.Min(fpHighHz, 0.45*fs)
+	// Band edges equally spaced on the mel scale m = 2595 log10(1 + f/700)
+	// (O'Shaughnessy 1987), so the low bands are not narrower than a bin.
+	mel := func(hz float64) float64 { return 2595 * math.Log10(1+hz/700) }
+	hz := func(m float64) float64 { return 700 * (math.Pow(10, m/2595) - 1) }
+	m0, m1 := mel(fpLowHz), mel(high)
+	binHz := fs / float64(n)
+	edge := make([]int, fpBands+1)
+	for i := range edge {
+		e := hz(m0 + (m1-m0)*float64(i)/fpBands)
+		edge[i] = int(math.Round(e / binHz))
+		if i > 0 && edge[i] <= edge[i-1] {
+			edge[i] = edge[i-1] + 1
+		}
+	}
+	f.lo = edge[:fpBands]
+	f.hi = edge[1:]
+	f.fft = fft.NewReal(n)
+	f.frame = make([]float64, n)
+	f.pow = make([]float64, n/2+1)
+	f.tw = make([]float64, fpSmooth)
+	for k := range f.tw {
+		f.tw[k] = 0.5 - 0.5*math.Cos(2*math.Pi*float64(k+1)/float64(fpSmooth+1))
+	}
+	return f
+}
+
+// Print computes the print of x into dst (reusing its slices; a zero Print
+// allocates) and returns it. Bit m of frame t is
+//
+//	F(t,m) = 1  if  [E(t,m) − E(t,m+1)] − [E(t−1,m) − E(t−1,m+1)] > 0
+//
+// where E(t,m) is the energy of band m in frame t (Haitsma & Kalker 2002,
+// eq. 1). The double difference cancels anything steady in time (a
+// machine's harmonic lines, its long-term spectrum, the gain), so the bits
+// follow the fine time structure of the noise and transients of one
+// particular recording.
+func (f *Fingerprinter) Print(dst Print, x []float64) Print {
+	nraw := 0
+	if len(x) >= f.n {
+		nraw = (len(x)-f.n)/f.hop + 1
+	}
+	// Raw band energies, one row of fpBands per short frame.
+	f.raw = growF(f.raw, nraw*fpBands)
+	for t := range nraw {
+		seg := x[t*f.hop : t*f.hop+f.n]
+		for i, v := range seg {
+			f.frame[i] = v * f.win[i]
+		}
+		f.fft.PowerSpectrum(f.pow, f.frame)
+		row := f.raw[t*fpBands : (t+1)*fpBands]
+		for m := range fpBands {
+			var e float64
+			for _, v := range f.pow[f.lo[m]:f.hi[m]] {
+				e += v
+			}
+			row[m] = e
+		}
+	}
+	// Smoothed energies over fpSmooth short frames (triangular weights).
+	K := fpSmooth
+	ns := nraw - K + 1
+	if ns < 0 {
+		ns = 0
+	}
+	f.sm = growF(f.sm, ns*fpBands)
+	for t := range ns {
+		row := f.sm[t*fpBands : (t+1)*fpBands]
+		for m := range row {
+			row[m] = 0
+		}
+		for k := range K {
+			w := f.tw[k]
+			src := f.raw[(t+k)*fpBands : (t+k+1)*fpBands]
+			for m, v := range src {
+				row[m] += w * v
+			}
+		}
+	}
+	L := fpLag
+	nf := ns - L
+	if nf < 0 {
+		nf = 0
+	}
+	dst.Words = grow(dst.Words, nf)
+	dst.Hop = float64(f.hop) / f.fs
+	var d [fpBands - 1]float64
+	for t := range nf {
+		a := f.sm[(t+L)*fpBands : (t+L+1)*fpBands]
+		b := f.sm[t*fpBands : (t+1)*fpBands]
+		var w uint32
+		for m := range fpBands - 1 {
+			d[m] = (a[m] - a[m+1]) - (b[m] - b[m+1])
+			if d[m] > 0 {
+				w |= 1 << m
+			}
+		}
+		dst.Words[t] = w
+	}
+	return dst
+}
+
+func growF(s []float64, n int) []float64 {
+	if cap(s) < n {
+		return make([]float64, n)
+	}
+	return s[:n]
+}
+
+// Fingerprint is a convenience for NewFingerprinter(fs).Print(Print{}, x).
+// Build one Fingerprinter and reuse it when printing many clips.
+func Fingerprint(x []float64, fs float64) Print {
+	return NewFingerprinter(fs).Print(Print{}, x)
+}
+
+func grow(s []uint32, n int) []uint32 {
+	if cap(s) < n {
+		return make([]uint32, n)
+	}
+	return s[:n]
+}
+
+// ber returns the bit error rate between a[i] and b[i+off] over their
+// overlap, and the number of frames compared.
+func ber(a, b []uint32, off int) (float64, int) {
+	lo, hi := 0, len(a)
+	if -off > lo {
+		lo = -off
+	}
+	if len(b)-off < hi {
+		hi = len(b) - off
+	}
+	if hi <= lo {
+		return 1, 0
+	}
+	diff := 0
+	for i := lo; i < hi; i++ {
+		diff += bits.OnesCount32(a[i] ^ b[i+off])
+	}
+	return float64(diff) / float64(32*(hi-lo)), hi - lo
+}
