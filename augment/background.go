@@ -108,17 +108,31 @@ func SynthPlantNoise(dst []float64, fs float64, rng *rand.Rand) []float64 {
 	}
 	const floor = 0.1 // white floor, −20 dB re the pink part
 	wmax := math.Pow(10, 1.5/20) - 1
-	for i := range dst {
-		t := float64(i) / fs
-		var m float64
-		for k := range wf {
-			m += math.Sin(2*math.Pi*wf[k]*t + wp[k])
+	// Six oscillators (three wander, three hum) run as rotating phasors,
+	// re-seeded from the exact phase every block to stop rounding drift.
+	var freq, phase0, amp [6]float64
+	for k := 0; k < 3; k++ {
+		freq[k], phase0[k], amp[k] = wf[k], wp[k], wmax/3
+		freq[3+k], phase0[3+k], amp[3+k] = mains*float64(k+1), hp[k], ha[k]
+	}
+	var rc, rs, c, sn [6]float64
+	for k := range freq {
+		rs[k], rc[k] = math.Sincos(2 * math.Pi * freq[k] / fs)
+	}
+	const block = 256
+	for b := 0; b < n; b += block {
+		t := float64(b) / fs
+		for k := range freq {
+			sn[k], c[k] = math.Sincos(2*math.Pi*math.Mod(freq[k]*t, 1) + phase0[k])
 		}
-		v := dst[i]*(1+wmax*m/3) + floor*rng.NormFloat64()
-		for k := range ha {
-			v += ha[k] * math.Sin(2*math.Pi*mains*float64(k+1)*t+hp[k])
+		for i := b; i < min(b+block, n); i++ {
+			m := amp[0]*sn[0] + amp[1]*sn[1] + amp[2]*sn[2]
+			h := amp[3]*sn[3] + amp[4]*sn[4] + amp[5]*sn[5]
+			dst[i] = dst[i]*(1+m) + floor*rng.NormFloat64() + h
+			for k := range c {
+				c[k], sn[k] = c[k]*rc[k]-sn[k]*rs[k], sn[k]*rc[k]+c[k]*rs[k]
+			}
 		}
-		dst[i] = v
 	}
 	normalise(dst)
 	for i := range dst {

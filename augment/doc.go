@@ -46,8 +46,10 @@
 // cascades of order N (Butterworth 1930) are the bilinear transform,
 // prewarped at the cutoff, of the analog prototype: pole pairs with
 // Q_k = 1/(2·sin((2k−1)π/(2N))) and one real pole for odd N; the response
-// is −3.0103 dB at the cutoff for every order. Band-pass of order N is a
-// high-pass at Low followed by a low-pass at High. The "telephone" preset
+// is −3.0103 dB at the cutoff for every order. A band-pass of order 0 is
+// one constant-0-dB-peak biquad with its −3 dB points exactly at Low and
+// High (both edges prewarped); of order N it is a high-pass at Low followed
+// by a low-pass at High. The "telephone" preset
 // is a 300–3400 Hz band-pass (ITU-T P.310), fourth order at each edge.
 //
 // # Power, SNR and weighting

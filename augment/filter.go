@@ -59,6 +59,18 @@ func BandPass(fs, f0, q float64) Biquad {
 	return Biquad{B0: al / a0, B2: -al / a0, A1: -2 * c / a0, A2: (1 - al) / a0}
 }
 
+// BandPassEdges returns the constant-0-dB-peak second-order band-pass
+// whose −3 dB points are exactly lo and hi Hz: the bilinear transform of
+// the analog band-pass B·s/(s² + B·s + Ω0²) with both edges prewarped,
+// Ωl,h = tan(π·f/fs), Ω0² = Ωl·Ωh, B = Ωh − Ωl. It has the RBJ BPF's form;
+// only α and w0 are set from the edges rather than from a Q.
+func BandPassEdges(fs, lo, hi float64) Biquad {
+	wl, wh := math.Tan(math.Pi*lo/fs), math.Tan(math.Pi*hi/fs)
+	o2, bw := wl*wh, wh-wl
+	a0 := 1 + bw + o2
+	return Biquad{B0: bw / a0, B2: -bw / a0, A1: 2 * (o2 - 1) / a0, A2: (1 - bw + o2) / a0}
+}
+
 // firstOrder returns the bilinear transform (prewarped at fc) of 1/(s+1)
 // (low-pass) or s/(s+1) (high-pass) as a biquad with B2 = A2 = 0.
 func firstOrder(fs, fc float64, high bool) Biquad {
@@ -109,9 +121,9 @@ const telephoneOrder = 4
 //   - Type "lowpass" keeps frequencies below High Hz; "highpass" keeps those
 //     above Low Hz; "bandpass" keeps Low…High Hz; "telephone" is a band-pass
 //     on TelephoneLow…TelephoneHigh (Low and High ignored).
-//   - Order 0 means one RBJ biquad with quality Q (0 means 1/√2); for
-//     "bandpass" it is the constant-0-dB-peak biquad at √(Low·High) with
-//     Q = √(Low·High)/(High−Low) unless Q is set. Order n ≥ 1 means an
+//   - Order 0 means one RBJ biquad: low- or high-pass with quality Q (0
+//     means 1/√2); for "bandpass" BandPassEdges(Low, High), Q unused.
+//     Order n ≥ 1 means an
 //     order-n Butterworth cascade (band-pass: high-pass at Low then
 //     low-pass at High, each of order n). "telephone" with Order 0 uses
 //     order 4.
@@ -161,11 +173,7 @@ func (f Filter) Design(fs float64) ([]Biquad, error) {
 			return nil, fmt.Errorf("augment: band %v–%v Hz not inside (0, %v)", lo, hi, fs/2)
 		}
 		if n == 0 {
-			f0 := math.Sqrt(lo * hi)
-			if f.Q == 0 {
-				q = f0 / (hi - lo)
-			}
-			return []Biquad{BandPass(fs, f0, q)}, nil
+			return []Biquad{BandPassEdges(fs, lo, hi)}, nil
 		}
 		return append(Butterworth(fs, lo, n, true), Butterworth(fs, hi, n, false)...), nil
 	}

@@ -124,13 +124,25 @@ func NewResampler(r float64) *Resampler {
 	}
 	rs.table = make([]float64, rows*rs.taps)
 	i0b := besselI0(beta)
+	// The kernel is even and every table entry sits at a multiple of
+	// 1/phases from the output instant, so each value is computed once.
+	P := rs.phases
+	kern := make([]float64, int(math.Ceil(half*float64(P)))+1)
+	for i := range kern {
+		kern[i] = kaiserSinc(float64(i)/float64(P), fc, half, beta, i0b)
+	}
 	for ph := 0; ph < rows; ph++ {
-		phi := float64(ph) / float64(rs.phases)
 		row := rs.table[ph*rs.taps : (ph+1)*rs.taps]
 		for j := range row {
-			// Distance from the output instant to input sample i0-off+j.
-			t := phi + float64(rs.off-j)
-			row[j] = kaiserSinc(t, fc, half, beta, i0b)
+			// Distance from the output instant to input sample i0-off+j,
+			// in table steps: ph/P + off − j.
+			i := ph + (rs.off-j)*P
+			if i < 0 {
+				i = -i
+			}
+			if i < len(kern) {
+				row[j] = kern[i]
+			}
 		}
 	}
 	return rs
@@ -149,7 +161,7 @@ func (rs *Resampler) Len(n int) int {
 }
 
 // Apply resamples x into dst (nil or short dst allocates) and returns
-// dst[:Len(len(x))]. Samples outside x are taken as zero. dst may not
+// dst[:Len(len(x))]. Ratio 1 copies x unchanged. Samples outside x are taken as zero. dst may not
 // alias x. Apply does not allocate when dst is large enough.
 func (rs *Resampler) Apply(dst, x []float64) []float64 {
 	n := rs.Len(len(x))
@@ -157,6 +169,10 @@ func (rs *Resampler) Apply(dst, x []float64) []float64 {
 		dst = make([]float64, n)
 	}
 	dst = dst[:n]
+	if rs.ratio == 1 {
+		copy(dst, x)
+		return dst
+	}
 	if rs.q != 0 {
 		rs.applyRational(dst, x)
 		return dst
@@ -338,8 +354,8 @@ func KaiserBeta(attDB float64) float64 {
 func besselI0(x float64) float64 {
 	h := x / 2
 	sum, term := 1.0, 1.0
-	for k := 1; k < 200; k++ {
-		term *= h / float64(k)
+	for k := 1; k < len(invK); k++ {
+		term *= h * invK[k]
 		t2 := term * term
 		sum += t2
 		if t2 < sum*1e-17 {
@@ -348,6 +364,14 @@ func besselI0(x float64) float64 {
 	}
 	return sum
 }
+
+// invK[k] = 1/k, so the series multiplies instead of dividing.
+var invK = func() (t [200]float64) {
+	for k := 1; k < len(t); k++ {
+		t[k] = 1 / float64(k)
+	}
+	return t
+}()
 
 // rational reports r = p/q exactly in float64 terms (to 1e-12 relative)
 // with the smallest q ≤ maxQ.

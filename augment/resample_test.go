@@ -189,3 +189,13 @@ func TestSpeedPanics(t *testing.T) {
 		}()
 	}
 }
+
+func TestSpeedIdentity(t *testing.T) {
+	x := randn(1000, 4)
+	y := Speed{Ratio: 1}.Apply(nil, x, 16000)
+	for i := range x {
+		if y[i] != x[i] {
+			t.Fatalf("ratio 1 changed sample %d", i)
+		}
+	}
+}

@@ -67,7 +67,8 @@ func (t Tempo) Apply(dst, x []float64, fs float64) []float64 {
 	out := int(math.Round(float64(n) / a))
 	dst = grow(dst, out)
 	clear(dst)
-	hop := max(int(math.Round(0.02*fs)), 1)
+	// The hop is a multiple of 8, the block size of the correlation kernel.
+	hop := max(int(math.Round(0.02*fs/8))*8, 8)
 	frame := 2 * hop
 	tol := hop / 2
 	if n == 0 || out == 0 {
@@ -100,20 +101,24 @@ func (t Tempo) Apply(dst, x []float64, fs float64) []float64 {
 			if lo > hi {
 				best = min(max(nominal, 0), max(n-frame, 0))
 			}
-			for c := lo; c <= hi; c++ {
-				var s float64
-				if c >= 0 && nat >= 0 && c+hop <= n && nat+hop <= n {
-					xc, xn := x[c:c+hop], x[nat:nat+hop]
-					for i, v := range xc {
-						s += v * xn[i]
-					}
+			var out [4]float64
+			for c := lo; c <= hi; c += 4 {
+				if c >= 0 && nat >= 0 && c+3+hop <= n && nat+hop <= n {
+					// Four candidate offsets against the continuation at once.
+					dot4s(&x[nat], &x[c], 1, hop, &out)
 				} else {
-					for i := 0; i < hop; i++ {
-						s += at(c+i) * at(nat+i)
+					for k := range out {
+						var s float64
+						for i := 0; i < hop; i++ {
+							s += at(c+k+i) * at(nat+i)
+						}
+						out[k] = s
 					}
 				}
-				if s > bestC {
-					best, bestC = c, s
+				for k := 0; k < 4 && c+k <= hi; k++ {
+					if out[k] > bestC {
+						best, bestC = c+k, out[k]
+					}
 				}
 			}
 			pos = best

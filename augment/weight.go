@@ -173,61 +173,59 @@ const aWarmSeconds = 0.2
 // allocating. The filter is first run, output discarded, over the first
 // aWarmSeconds of x in reverse order (an even reflection about x[0]), so
 // the measurement starts from a state close to steady rather than with the
-// start-up transient of the 20.6 Hz poles.
+// start-up transient of the 20.6 Hz poles. The FIR's centre tap lags by
+// aFIRHalf samples, so the sum covers the outputs aligned with x[0] …
+// x[len−1], the last few fed by the reflection about x[len−1].
 func (af *aFilter) power(x []float64, fs float64) float64 {
-	if len(x) == 0 {
+	n := len(x)
+	if n == 0 {
 		return 0
 	}
-	var st aState
-	warm := min(len(x)-1, int(aWarmSeconds*fs))
-	for i := warm; i >= 1; i-- {
-		st.step(af, x[i])
+	const L = 2 * aFIRHalf // FIR history carried between blocks
+	var s0, s1 biquadState
+	var buf [1024 + L]float64
+	warm := min(n-1, int(aWarmSeconds*fs))
+	// Sample j of the extended sequence: the reversed warm-up, then x,
+	// then aFIRHalf samples reflected about the end.
+	total := warm + n + aFIRHalf
+	src := func(j int) float64 {
+		switch {
+		case j < warm:
+			return x[warm-j]
+		case j < warm+n:
+			return x[j-warm]
+		}
+		if k := n - 2 - (j - warm - n); k >= 0 {
+			return x[k]
+		}
+		return 0
 	}
-	// The FIR output lags by aFIRHalf samples: skip the first aFIRHalf
-	// outputs and flush with the following reflected samples, so each
-	// input sample contributes once with its full weight.
+	h := af.fir
 	var sum float64
-	for i, v := range x {
-		y := st.step(af, v)
-		if i >= aFIRHalf {
+	for j := 0; j < total; {
+		m := min(len(buf)-L, total-j)
+		blk := buf[L : L+m]
+		for i := range blk {
+			v := s0.step(&af.hp[0], src(j+i))
+			blk[i] = s1.step(&af.hp[1], v)
+		}
+		// The FIR output at extended index j+i reads IIR outputs
+		// j+i−L … j+i, i.e. buf[i : i+L+1], and belongs to input j+i−aFIRHalf.
+		for i := 0; i < m; i++ {
+			if e := j + i - aFIRHalf; e < warm || e >= warm+n {
+				continue
+			}
+			w := buf[i : i+L+1]
+			var y float64
+			for k, c := range h {
+				y += c * w[L-k]
+			}
 			sum += y * y
 		}
+		copy(buf[:L], buf[m:m+L])
+		j += m
 	}
-	for i := 0; i < aFIRHalf; i++ {
-		j := len(x) - 2 - i
-		v := 0.0
-		if j >= 0 {
-			v = x[j]
-		}
-		y := st.step(af, v)
-		sum += y * y
-	}
-	return sum / float64(len(x))
-}
-
-// aState is the running state of an aFilter.
-type aState struct {
-	s0, s1 biquadState
-	line   [2*aFIRHalf + 1]float64
-	pos    int
-}
-
-func (st *aState) step(af *aFilter, v float64) float64 {
-	v = st.s0.step(&af.hp[0], v)
-	v = st.s1.step(&af.hp[1], v)
-	st.line[st.pos] = v
-	var y float64
-	j := st.pos
-	for _, c := range af.fir {
-		y += c * st.line[j]
-		if j--; j < 0 {
-			j = len(st.line) - 1
-		}
-	}
-	if st.pos++; st.pos == len(st.line) {
-		st.pos = 0
-	}
-	return y
+	return sum / float64(n)
 }
 
 // Power returns the long-term mean square of x with weighting w, in

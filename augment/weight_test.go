@@ -118,3 +118,42 @@ func TestParseWeighting(t *testing.T) {
 		t.Error("ParseWeighting(C): no error")
 	}
 }
+
+// power equals the plain definition: filter the extended sequence
+// (reversed warm-up, clip, reflected tail) from zero state, keep the
+// outputs aligned with the clip, take their mean square.
+func TestAPowerMatchesReference(t *testing.T) {
+	const fs = 16000.0
+	for _, n := range []int{1, 2, 13, 1000, 1037, 5000} {
+		x := randn(n, uint64(n))
+		af := newAFilter(fs)
+		warm := min(n-1, int(aWarmSeconds*fs))
+		var ext []float64
+		for i := warm; i >= 1; i-- {
+			ext = append(ext, x[i])
+		}
+		ext = append(ext, x...)
+		for i := 0; i < aFIRHalf; i++ {
+			if k := n - 2 - i; k >= 0 {
+				ext = append(ext, x[k])
+			} else {
+				ext = append(ext, 0)
+			}
+		}
+		v := Cascade(nil, ext, af.hp[:])
+		var sum float64
+		for e := warm; e < warm+n; e++ {
+			var y float64
+			for k, c := range af.fir {
+				if j := e + aFIRHalf - k; j >= 0 && j < len(v) {
+					y += c * v[j]
+				}
+			}
+			sum += y * y
+		}
+		want := sum / float64(n)
+		if got := af.power(x, fs); math.Abs(got-want) > 1e-12*want {
+			t.Errorf("n %d: power %v, reference %v", n, got, want)
+		}
+	}
+}

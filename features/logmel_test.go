@@ -103,3 +103,29 @@ func TestLogMelNoAlloc(t *testing.T) {
 		}
 	}
 }
+
+func TestLogMelWorkersIndependent(t *testing.T) {
+	// One extractor per worker: results must not depend on other workers.
+	x := noise(3*16000, 8)
+	ref, _ := NewLogMel(Config{Scale: ScaleSlaney, Center: true}, 16000)
+	want, _ := ref.Compute(nil, x)
+	done := make(chan []float32, 2)
+	for range 2 {
+		go func() {
+			l, _ := NewLogMel(Config{Scale: ScaleSlaney, Center: true}, 16000)
+			var out []float32
+			for range 3 {
+				out, _ = l.Compute(out, x)
+			}
+			done <- out
+		}()
+	}
+	for range 2 {
+		got := <-done
+		for i := range want {
+			if got[i] != want[i] {
+				t.Fatal("worker result differs")
+			}
+		}
+	}
+}

@@ -160,3 +160,37 @@ func BenchmarkWriteNPY(b *testing.B) {
 		}
 	}
 }
+
+func FuzzWriteNPY(f *testing.F) {
+	f.Add(uint8(2), uint8(3), uint8(0), []byte{1, 2, 3})
+	f.Add(uint8(0), uint8(9), uint8(1), []byte{})
+	f.Fuzz(func(t *testing.T, a, b, c uint8, seed []byte) {
+		shape := []int{int(a % 17), int(b % 17)}
+		if c%2 == 1 {
+			shape = append(shape, int(c%5))
+		}
+		n := 1
+		for _, d := range shape {
+			n *= d
+		}
+		data := make([]float32, n)
+		for i := range data {
+			if len(seed) > 0 {
+				data[i] = float32(seed[i%len(seed)]) * float32(i-3)
+			}
+		}
+		var buf bytes.Buffer
+		if err := WriteNPY(&buf, data, shape...); err != nil {
+			t.Fatal(err)
+		}
+		_, got := parseNPY(t, buf.Bytes())
+		if len(got) != n {
+			t.Fatalf("%d values back, want %d", len(got), n)
+		}
+		for i := range got {
+			if got[i] != data[i] {
+				t.Fatalf("value %d: %v, want %v", i, got[i], data[i])
+			}
+		}
+	})
+}

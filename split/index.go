@@ -28,6 +28,11 @@ const (
 	// which follows a speed change of a few percent.
 	ixBlock = 64
 	ixDrift = 12
+	// ixMaxVerify caps the candidates verified per query (most votes
+	// first), which bounds the query cost whatever the index size.
+	ixMaxVerify = 16
+	// ixQueryStride: the query probes every ixQueryStride-th frame.
+	ixQueryStride = 2
 	// DefaultMaxBER is the verified bit error rate at or below which two
 	// prints are called near-duplicates. Unrelated prints give about 0.5
 	// (about 0.45 after the best-offset search); copies after gain, shift,
@@ -63,14 +68,15 @@ type Index struct {
 	ent   [ixTables][]uint64 // print<<24 | frame, grouped by key
 	built int                // number of prints in the tables
 	// scratch for Query
-	votes   map[uint64]int32
-	touched []uint64
+	votes   []uint16
+	touched []int
+	maxLen  int // longest indexed print, frames
 }
 
 // NewIndex returns an empty index. The bit-sampling patterns come from a
 // fixed PCG seed, so two indexes built from the same prints answer alike.
 func NewIndex() *Index {
-	ix := &Index{votes: make(map[uint64]int32)}
+	ix := &Index{}
 	rng := rand.New(rand.NewPCG(0x7468_7275_6d, 1))
 	for t := range ix.pat {
 		for k := range ix.pat[t] {
@@ -89,6 +95,7 @@ func (ix *Index) Len() int { return len(ix.ids) }
 func (ix *Index) Add(id string, p Print) {
 	ix.ids = append(ix.ids, id)
 	ix.prints = append(ix.prints, p.Words)
+	ix.maxLen = max(ix.maxLen, len(p.Words))
 }
 
 func (ix *Index) key(t int, w []uint32, f int) uint32 {
@@ -140,22 +147,28 @@ func (ix *Index) Query(p Print) []Match {
 	if len(w) < ixSpan || len(ix.ids) == 0 {
 		return nil
 	}
-	clear(ix.votes)
+	// Dense vote counters: one row of offset bins per indexed print.
+	// offset = indexed frame − query frame ∈ (−len(w), maxLen).
+	nb := (len(w)+ix.maxLen)/ixBin + 2
+	if need := nb * len(ix.prints); cap(ix.votes) < need {
+		ix.votes = make([]uint16, need)
+	} else {
+		ix.votes = ix.votes[:need]
+	}
 	ix.touched = ix.touched[:0]
-	const bias = 1 << 20 // keeps offset bins non-negative
 	for t := range ixTables {
 		st, ent := ix.start[t], ix.ent[t]
-		for f := 0; f+ixSpan <= len(w); f++ {
+		for f := 0; f+ixSpan <= len(w); f += ixQueryStride {
 			k := ix.key(t, w, f)
 			for _, e := range ent[st[k]:st[k+1]] {
-				pi := e >> 24
-				off := int(e&(1<<24-1)) - f
-				c := pi<<24 | uint64((off+bias)/ixBin)
+				c := int(e>>24)*nb + (int(e&(1<<24-1))-f+len(w))/ixBin
 				v := ix.votes[c]
 				if v == 0 {
 					ix.touched = append(ix.touched, c)
 				}
-				ix.votes[c] = v + 1
+				if v < 1<<16-1 {
+					ix.votes[c] = v + 1
+				}
 			}
 		}
 	}
@@ -166,22 +179,41 @@ func (ix *Index) Query(p Print) []Match {
 	}
 	best := map[int]cand{}
 	for _, c := range ix.touched {
-		v := int(ix.votes[c] + ix.votes[c+1])
+		v := int(ix.votes[c])
+		if (c+1)%nb != 0 {
+			v += int(ix.votes[c+1])
+		}
 		if v < ixMinVotes {
 			continue
 		}
-		pi := int(c >> 24)
-		off := int(c&(1<<24-1))*ixBin - bias + ixBin
+		pi := c / nb
+		off := (c%nb)*ixBin - len(w) + ixBin
 		if b, ok := best[pi]; !ok || v > b.votes {
 			best[pi] = cand{pi, off, v}
 		}
+	}
+	for _, c := range ix.touched {
+		ix.votes[c] = 0
+	}
+	cands := make([]cand, 0, len(best))
+	for _, c := range best {
+		cands = append(cands, c)
+	}
+	sort.Slice(cands, func(i, j int) bool {
+		if cands[i].votes != cands[j].votes {
+			return cands[i].votes > cands[j].votes
+		}
+		return cands[i].pi < cands[j].pi
+	})
+	if len(cands) > ixMaxVerify {
+		cands = cands[:ixMaxVerify]
 	}
 	maxBER := ix.MaxBER
 	if maxBER == 0 {
 		maxBER = DefaultMaxBER
 	}
 	var out []Match
-	for _, c := range best {
+	for _, c := range cands {
 		e, off := verify(w, ix.prints[c.pi], c.off)
 		if e <= maxBER {
 			out = append(out, Match{ID: ix.ids[c.pi], Offset: off, BER: e, Votes: c.votes})

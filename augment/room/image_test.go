@@ -179,6 +179,9 @@ func specularPrediction(size [3]float64, alpha float64) (t20, t30 float64) {
 // bound; the direct ±10 % Eyring check is made where the prediction itself
 // is within 10 % of Eyring for both T20 and T30 (a cube).
 func TestDecayMatchesTheory(t *testing.T) {
+	// At 16 kHz, the pipeline's usual rate. The broadband result depends a
+	// little on fs through the share of low-frequency modal energy: at
+	// 8 kHz the cube at α = 0.3 gives T20 1.13 × Eyring.
 	const fs = 16000.0
 	pairs := [][2][3]float64{
 		{{0.31, 0.62, 0.35}, {0.73, 0.22, 0.56}},
@@ -320,6 +323,7 @@ func TestImpulseResponseErrors(t *testing.T) {
 		{"mic outside", good, src, [3]float64{4, -1, 2}, 16000, Config{}, "microphone"},
 		{"coincident", good, src, src, 16000, Config{}, "distance"},
 		{"bad fs", good, src, mic, 0, Config{}, "sampling rate"},
+		{"huge fs", good, src, mic, 1e7, Config{}, "sampling rate"},
 		{"bad config", good, src, mic, 16000, Config{MaxSeconds: -1}, "config"},
 		{"high-pass above Nyquist", good, src, mic, 16000, Config{HighPassHz: 9000}, "Nyquist"},
 		{"too short", good, src, mic, 16000, Config{MaxSeconds: 0.001}, "direct path"},
@@ -341,14 +345,16 @@ func TestImpulseResponseLengthAndReuse(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// Default length: direct delay plus the predicted 60 dB decay, which
-	// for uniform walls is at least Eyring's time (Eyring 1930) and at most
-	// the axial-path time along the longest side (derived); and it leaves
+	// Default length: direct delay plus the predicted 50 dB decay, which
+	// for uniform walls is at least 50/60 of Eyring's time (Eyring 1930)
+	// and at most that of the axial path along the longest side (derived);
+	// and it leaves
 	// T30 enough range (DecayTime checks the 10 dB margin of ISO 3382-1).
 	direct := dist(src, mic) / SpeedOfSound(20)
 	axial := 60 * 7 / (SpeedOfSound(20) * -10 * math.Log10(0.7))
-	if got := float64(len(h)) / fs; got < direct+r.Eyring() || got > direct+axial {
-		t.Errorf("length %.4f s outside [%.4f, %.4f] s", got, direct+r.Eyring(), direct+axial)
+	lo, hi := direct+r.Eyring()*50/60, direct+axial*50/60
+	if got := float64(len(h)) / fs; got < lo || got > hi {
+		t.Errorf("length %.4f s outside [%.4f, %.4f] s", got, lo, hi)
 	}
 	if _, err := T30(h, fs); err != nil {
 		t.Errorf("T30 of a default-length IR: %v", err)

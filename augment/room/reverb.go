@@ -3,6 +3,8 @@ package room
 import (
 	"fmt"
 	"math"
+
+	"thrum/features/fft"
 )
 
 // Reverb convolves signals with a room impulse response.
@@ -12,13 +14,17 @@ type Reverb struct {
 	// Fs is the IR's sampling rate in Hz; zero skips the rate check.
 	Fs float64
 
-	conv *convolver // nil for a literal Reverb: Apply then builds one per call
+	conv *fft.Convolver // nil for a literal Reverb: Apply then builds one per call
 }
 
 // NewReverb returns a Reverb for ir sampled at fs Hz (0: unchecked) with the
 // FFT of ir computed once. The result is safe for concurrent use.
 func NewReverb(ir []float64, fs float64) Reverb {
-	return Reverb{IR: ir, Fs: fs, conv: newConvolver(ir)}
+	v := Reverb{IR: ir, Fs: fs}
+	if len(ir) > 0 {
+		v.conv = fft.NewConvolver(ir)
+	}
+	return v
 }
 
 // Apply writes the causal convolution (IR * x) cut to len(x) into dst (nil
@@ -29,11 +35,22 @@ func (v Reverb) Apply(dst, x []float64, fs float64) []float64 {
 	if v.Fs != 0 && fs != v.Fs {
 		panic(fmt.Sprintf("room: Reverb.Apply at %g Hz with an IR sampled at %g Hz", fs, v.Fs))
 	}
-	c := v.conv
-	if c == nil || c.m != len(v.IR) {
-		c = newConvolver(v.IR)
+	if len(v.IR) == 0 {
+		if cap(dst) < len(x) {
+			dst = make([]float64, len(x))
+		}
+		dst = dst[:len(x)]
+		clear(dst)
+		return dst
 	}
-	return c.apply(dst, x)
+	c := v.conv
+	if c == nil || c.Len() != len(v.IR) {
+		c = fft.NewConvolver(v.IR)
+	}
+	if len(x) > 0 && cap(dst) > 0 && &dst[:1][0] == &x[0] {
+		x = append([]float64(nil), x...) // the convolver needs distinct buffers
+	}
+	return c.Apply(dst, x)
 }
 
 // UnitEnergy returns a copy of h scaled so that Σh² = 1 (for measured IR

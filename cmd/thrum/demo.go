@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"path/filepath"
 
 	"github.com/spf13/cobra"
 
@@ -10,7 +11,9 @@ import (
 )
 
 type demoOptions struct {
-	Seed uint64
+	Seed    uint64
+	Workers int
+	Quiet   bool
 }
 
 func newDemoCmd(g *globals) *cobra.Command {
@@ -27,6 +30,8 @@ stage on it. It is the quickest way to see what thrum does.`,
 		},
 	}
 	cmd.Flags().Uint64Var(&o.Seed, "seed", 20261201, "seed of the invented plant")
+	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "clips processed at once (0 = all cores)")
+	cmd.Flags().BoolVarP(&o.Quiet, "quiet", "q", false, "no progress output")
 	return cmd
 }
 
@@ -37,5 +42,10 @@ func runDemo(ctx context.Context, g *globals, o demoOptions, dir string) error {
 		return err
 	}
 	fmt.Fprintf(g.stdout, "demo plant written: %s\n\n", plantPath)
-	return runSurvey(ctx, g, surveyOptions{}, plantPath)
+	if err := runSurvey(ctx, g, surveyOptions{}, plantPath); err != nil {
+		return err
+	}
+	out := filepath.Join(dir, "out")
+	fmt.Fprintf(g.stdout, "\nrunning the pipeline: thrum run %s --out %s\n", plantPath, out)
+	return runPipeline(ctx, g, stageOptions{Out: out, Workers: o.Workers, Quiet: o.Quiet}, plantPath)
 }

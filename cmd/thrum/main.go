@@ -47,16 +47,23 @@ func exitCode(err error) int {
 		return exitOK
 	}
 	fmt.Fprintln(os.Stderr, "thrum:", err)
+	if errors.Is(err, context.Canceled) {
+		fmt.Fprintln(os.Stderr, "thrum: interrupted; rerun the same command to resume")
+	}
+	return exitCodeQuiet(err)
+}
+
+// exitCodeQuiet maps an error to its documented exit code.
+func exitCodeQuiet(err error) int {
 	var pe *problemsError
 	var ue *usageError
 	switch {
+	case err == nil:
+		return exitOK
 	case errors.As(err, &pe):
 		return exitProblems
 	case errors.As(err, &ue):
 		return exitUsage
-	case errors.Is(err, context.Canceled):
-		fmt.Fprintln(os.Stderr, "thrum: interrupted; rerun the same command to resume")
-		return exitError
 	}
 	return exitError
 }

@@ -55,6 +55,8 @@ splits with an audit, features ready for training, and a ledger of everything do
 		newChainCmd(g),
 		newSplitCmd(g),
 		newFeaturesCmd(g),
+		newRunCmd(g),
+		newLogMelCmd(g),
 		newAuditCmd(g),
 	)
 	return root

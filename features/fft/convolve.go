@@ -13,7 +13,7 @@ import (
 // (short kernels), one FFT of the whole signal, or overlap-save blocks of a
 // smaller FFT length. The kernel spectrum is computed once per FFT length
 // and cached. A Convolver is safe for concurrent use by several goroutines;
-// each call draws its scratch from a pool.
+// each call draws its scratch from a per-size free list.
 type Convolver struct {
 	h  []float64 // kernel
 	hr []float64 // kernel reversed, for the direct sum
@@ -24,12 +24,33 @@ type Convolver struct {
 
 // convSize holds what one FFT length needs: the shared plan tables, the
 // kernel spectrum scaled by 1/l (which folds in the inverse's
-// normalisation), and a pool of per-call scratch.
+// normalisation), and a free list of per-call scratch. The free list (rather
+// than a sync.Pool, which may drop entries) keeps calls allocation-free; it
+// holds as many entries as calls ever ran at once.
 type convSize struct {
 	l    int
 	t    *realTables
 	spec []complex128
-	pool sync.Pool // *convWork
+
+	mu   sync.Mutex
+	free []*convWork
+}
+
+func (cs *convSize) get() *convWork {
+	cs.mu.Lock()
+	defer cs.mu.Unlock()
+	if n := len(cs.free); n > 0 {
+		w := cs.free[n-1]
+		cs.free = cs.free[:n-1]
+		return w
+	}
+	return &convWork{r: newRealFrom(cs.t), buf: make([]float64, cs.l)}
+}
+
+func (cs *convSize) put(w *convWork) {
+	cs.mu.Lock()
+	cs.free = append(cs.free, w)
+	cs.mu.Unlock()
 }
 
 type convWork struct {
@@ -155,10 +176,7 @@ func (c *Convolver) size(l int) *convSize {
 		return cs
 	}
 	cs := &convSize{l: l, t: newRealTables(l)}
-	cs.pool.New = func() any {
-		return &convWork{r: newRealFrom(cs.t), buf: make([]float64, l)}
-	}
-	w := cs.pool.Get().(*convWork)
+	w := cs.get()
 	copy(w.buf, c.h)
 	clear(w.buf[len(c.h):])
 	cs.spec = w.r.Forward(nil, w.buf)
@@ -166,7 +184,7 @@ func (c *Convolver) size(l int) *convSize {
 	for i, v := range cs.spec {
 		cs.spec[i] = complex(real(v)*inv, imag(v)*inv)
 	}
-	cs.pool.Put(w)
+	cs.put(w)
 	c.sizes[l] = cs
 	return cs
 }
@@ -176,8 +194,8 @@ func (c *Convolver) size(l int) *convSize {
 // starts K−1 samples earlier; the first K−1 outputs of each circular
 // convolution are discarded.
 func (c *Convolver) overlapSave(dst, x []float64, cs *convSize) {
-	w := cs.pool.Get().(*convWork)
-	defer cs.pool.Put(w)
+	w := cs.get()
+	defer cs.put(w)
 	k, l := len(c.h), cs.l
 	hop := l - k + 1
 	buf := w.buf[:l]

@@ -12,6 +12,7 @@ import (
 	"strings"
 
 	"thrum/machine"
+	"thrum/machine/exposure"
 	"thrum/machine/wavio"
 )
 
@@ -54,7 +55,9 @@ type Options struct {
 func ExampleTOML() string { return render(DefaultSeed, ClipSeconds) }
 
 func render(seed uint64, clip float64) string {
+	caution := "# " + strings.ReplaceAll(strings.TrimSpace(exposure.Caution), "\n", "\n# ")
 	return strings.NewReplacer(
+		"{{caution}}", caution,
 		"{{seed}}", strconv.FormatUint(seed, 10),
 		"{{clip}}", strconv.FormatFloat(clip, 'f', -1, 64),
 	).Replace(plantTemplate)
@@ -115,6 +118,7 @@ func Write(dir string, opt Options) (plantPath string, err error) {
 		}
 		x := s.take(t, seconds)
 		var b bytes.Buffer
+		b.Grow(2*len(x) + 64)
 		if err := wavio.Encode(&b, x, p.SampleRate, 1, wavio.PCM16); err != nil {
 			return "", fmt.Errorf("demoplant: %s: %w", t.path, err)
 		}

@@ -224,12 +224,16 @@ func TestRecordingLevels(t *testing.T) {
 		}
 	}
 	// The near take of each condition is louder than the far one: direct
-	// sound falls as 1/d while reflections and the floor do not.
+	// sound falls as 1/d while reflections and the floor do not. Measured in
+	// the broadband bearing-noise band around 4 kHz, where the room's comb
+	// filtering averages out (a single tonal line may sit in a notch).
 	for _, m := range []string{"pump-p1/duty", "pump-p1/reduced", "fan-f1/high", "fan-f1/low", "conveyor-c1/half"} {
-		near := rms(readWAV(t, filepath.Join(dir, "recordings", m, "take-01.wav")))
-		far := rms(readWAV(t, filepath.Join(dir, "recordings", m, "take-02.wav")))
-		if d := 20 * math.Log10(near/far); d < 1.5 {
-			t.Errorf("%s: near take only %.1f dB above the far one", m, d)
+		near := readWAV(t, filepath.Join(dir, "recordings", m, "take-01.wav"))
+		far := readWAV(t, filepath.Join(dir, "recordings", m, "take-02.wav"))
+		bandpass(4000, 0.8, 16000).run(near)
+		bandpass(4000, 0.8, 16000).run(far)
+		if d := 20 * math.Log10(rms(near)/rms(far)); d < 2 {
+			t.Errorf("%s: near take only %.1f dB above the far one around 4 kHz", m, d)
 		}
 	}
 }
@@ -473,7 +477,7 @@ func TestAddTonesLocked(t *testing.T) {
 	}
 }
 
-// The speed never leaves the condition's band: |offset + wander| ≤ 0.65
+// The speed never leaves the condition's band: |offset + wander| ≤ 0.35
 // of the band.
 func TestSpeedTrackInBand(t *testing.T) {
 	s := &synth{rate: 16000}
@@ -486,8 +490,8 @@ func TestSpeedTrackInBand(t *testing.T) {
 			f := w * s.rate / (2 * math.Pi)
 			lo, hi = math.Min(lo, f), math.Max(hi, f)
 		}
-		if lo < f0*(1-0.65*band)-1e-9 || hi > f0*(1+0.65*band)+1e-9 {
-			t.Errorf("seed %d: speed %g … %g Hz outside %g ± %g %%", seed, lo, hi, f0, 65*band)
+		if lo < f0*(1-0.35*band)-1e-9 || hi > f0*(1+0.35*band)+1e-9 {
+			t.Errorf("seed %d: speed %g … %g Hz outside %g ± %g %%", seed, lo, hi, f0, 35*band)
 		}
 		if hi-lo < 0.05*f0*band {
 			t.Errorf("seed %d: speed barely wanders (%g … %g Hz)", seed, lo, hi)

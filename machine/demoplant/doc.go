@@ -12,8 +12,8 @@
 //
 //	plant.toml
 //	recordings/<machine-id>/<condition>/take-NN.wav
-//	recordings/conveyor-c1/full/session-visit-02/take-NN.wav  (one session)
-//	recordings/pump-p1/duty/anomalous/outer-race-01.wav   (a bearing fault)
+//	recordings/conveyor-c1/full/session-visit-02/take-NN.wav   (a session)
+//	recordings/pump-p1/duty/anomalous/outer-race-01.wav        (a bearing fault)
 //	backgrounds/hall-ambience.wav
 //
 // All files are 16 kHz, 16-bit PCM, mono.
@@ -22,10 +22,10 @@
 //
 // Each recording follows one shaft speed f(t) = f0·(1 + o + w(t)): f0 is the
 // condition's rpm/60, o a per-recording offset and w(t) a slow wander (three
-// sinusoids below 0.3 Hz), with |o + w| ≤ 0.65 × band_percent/100, so the
-// speed never leaves the condition's band. The shaft phase is the integral
-// of f, updated every 64 samples (4 ms); every tonal line is an exact order
-// of it, so all lines move together:
+// sinusoids below 0.3 Hz), with |o + w| ≤ 0.35 × band_percent/100, so the
+// speed stays well inside the condition's band. The shaft phase is the
+// integral of f, updated every 64 samples (4 ms); every tonal line is an
+// exact order of it, so all lines move together:
 //
 //   - shaft orders 1×…N× of every shaft, amplitude ∝ 1/k;
 //   - blade/vane pass (machine.BladePassHz) and its harmonics, with ±1×
@@ -33,23 +33,31 @@
 //   - gear mesh of every stage (Machine.MeshHz) and harmonics, with
 //     sidebands at ± the rates of both shafts of the stage.
 //
-// Broadband parts: a structural resonance (white noise through a band-pass
-// biquad), rolling-element bearing noise (band-pass around 4 kHz) and flow
-// noise (low-passed white noise). The machine signal reaches the microphone
-// at distance d as a direct part scaled by 1/d (1 m reference) plus early
-// reflections whose delays and decay follow the room's size and a Sabine
-// estimate of its reverberation time; the reflections, mains hum (50 Hz and
-// harmonics, electrical pickup) and the room's noise floor do not depend on
-// d, so each take has its own level and direct-to-noise ratio.
+// Broadband parts, all from uniform white noise (near-Gaussian once
+// filtered): a structural resonance (band-pass biquad), rolling-element
+// bearing noise (band-pass around 4 kHz) and flow noise (low-pass). The
+// machine signal is set to −22 dB re full scale at 1 m at the machine's
+// fastest condition, and 30·log10 of the speed ratio lower at slower ones.
+//
+// It reaches the microphone at distance d (0.5–1 m for a near take,
+// 1.5–2.3 m for a far one) as a direct part scaled by 1/d plus twelve early
+// reflections: delays up to twice the room's longest side over the speed
+// of sound, amplitudes decaying 60 dB per Sabine reverberation time
+// (RT60 = 0.161·V/Σ S·α) and scaled to 35 % of the reverberant energy
+// 1/r_c², with critical distance r_c = 0.057·√(V/RT60) m. The
+// reflections, mains hum (50 Hz and harmonics, electrical pickup) and the
+// room's noise floor do not depend on d, so each take has its own level
+// and direct-to-noise ratio.
 //
 // The anomalous recording adds outer-race impacts of the pump's drive-end
-// bearing at BPFO (Bearing.Rates at the instantaneous shaft rate) less 1 %
-// slip, with 1 % jitter between impacts, each ringing a 3.4 kHz resonance
-// with damping ratio 0.04. The background is broadband room noise, hum and a
+// bearing at BPFO (Bearing.Orders times the instantaneous shaft rate) less
+// 1 % slip, with 1 % jitter between impacts, each ringing a 3.4 kHz
+// resonance with damping ratio 0.04; the impact train's RMS is 10 dB below
+// the machine signal's. The background is broadband room noise, hum and a
 // distant, low-passed blower that is not one of the plant's machines.
 //
-// Levels are in dBFS, re a full-scale sine's peak: a take whose peak would
-// exceed −1.5 dBFS is scaled down to −1.5 dBFS. Output depends only on the
+// Levels are in dB re full scale (a sample value of 1): a take whose peak
+// would exceed −1.5 dB is scaled down to −1.5 dB. Output depends only on the
 // seed: each file draws from its own PCG stream keyed by (seed, file path),
 // and each machine's fixed character (line amplitudes and phases, resonance)
 // from a stream keyed by (seed, machine id).

@@ -80,6 +80,21 @@ type synth struct {
 	p    *machine.Plant
 	seed uint64
 	rate float64
+	// work buffers, reused from take to take to keep the garbage collector
+	// out of the way
+	bufs [3][]float64
+}
+
+// buffers returns the three work buffers with length n, zeroed.
+func (s *synth) buffers(n int) (a, b, c []float64) {
+	for i := range s.bufs {
+		if cap(s.bufs[i]) < n {
+			s.bufs[i] = make([]float64, n)
+		}
+		s.bufs[i] = s.bufs[i][:n]
+		clear(s.bufs[i])
+	}
+	return s.bufs[0], s.bufs[1], s.bufs[2]
 }
 
 func newSynth(p *machine.Plant, seed uint64) *synth {
@@ -94,11 +109,16 @@ func (s *synth) stream(key string) *rand.Rand {
 	return rand.New(rand.NewPCG(s.seed, h.Sum64()))
 }
 
-func maxRPM(m *machine.Machine) float64 {
+// maxRPM is the machine's fastest condition speed; with top it is the top
+// of that condition's band.
+func maxRPM(m *machine.Machine, top bool) float64 {
 	hi := 0.0
 	for _, c := range m.Conditions {
-		_, top := c.Band()
-		hi = math.Max(hi, top)
+		r := c.RPM
+		if top {
+			_, r = c.Band()
+		}
+		hi = math.Max(hi, r)
 	}
 	return hi
 }
@@ -144,7 +164,7 @@ func (s *synth) voiceOf(m *machine.Machine) voice {
 			}
 		}
 	}
-	top := machine.ShaftHz(maxRPM(m))
+	top := machine.ShaftHz(maxRPM(m, true))
 	kept := v.tones[:0]
 	for _, t := range v.tones {
 		if t.order > 0 && t.order*top < 0.45*s.rate {
@@ -157,9 +177,10 @@ func (s *synth) voiceOf(m *machine.Machine) voice {
 }
 
 // speedTrack gives the shaft's angular rate in radians per sample for each
-// block: f0·(1 + o + w(t)), |o| ≤ 0.3·band, |w| ≤ 0.35·band.
+// block: f0·(1 + o + w(t)), |o| ≤ 0.15·band, |w| ≤ 0.2·band, so a take
+// stays well inside its band and speed steps have room.
 func (s *synth) speedTrack(rng *rand.Rand, n int, f0, band float64) []float64 {
-	off := 0.3 * band * (2*rng.Float64() - 1)
+	off := 0.15 * band * (2*rng.Float64() - 1)
 	var a, nu, psi [3]float64
 	sum := 0.0
 	for j := range a {
@@ -175,7 +196,7 @@ func (s *synth) speedTrack(rng *rand.Rand, n int, f0, band float64) []float64 {
 		for j := range a {
 			w += a[j] / sum * math.Sin(2*math.Pi*nu[j]*t+psi[j])
 		}
-		om[b] = 2 * math.Pi * f0 * (1 + off + 0.35*band*w) / s.rate
+		om[b] = 2 * math.Pi * f0 * (1 + off + 0.2*band*w) / s.rate
 	}
 	return om
 }
@@ -204,9 +225,11 @@ func addTones(dst []float64, tones []tone, phi0 float64, omega []float64) {
 			for q := range g {
 				w := g[q].order * om
 				th := g[q].order*phis[b] + g[q].phase
-				s[q] = g[q].amp * math.Sin(th)
-				p[q] = g[q].amp * math.Sin(th-w)
-				c[q] = 2 * math.Cos(w)
+				st, ct := math.Sincos(th)
+				sw, cw := math.Sincos(w)
+				s[q] = g[q].amp * st
+				p[q] = g[q].amp * (st*cw - ct*sw) // sin(th − w)
+				c[q] = 2 * cw
 			}
 			s0, s1, s2, s3 := s[0], s[1], s[2], s[3]
 			p0, p1, p2, p3 := p[0], p[1], p[2], p[3]
@@ -401,6 +424,8 @@ func (s *synth) ambient(dst, buf []float64, rng *rand.Rand, g float64) {
 	addTones(dst, humTones(rng, g), 0, s.clock(len(dst)))
 }
 
+// take synthesises one file. The result lives in a work buffer: it is
+// valid until the next call.
 func (s *synth) take(t take, seconds float64) []float64 {
 	if t.background {
 		return s.background(t, seconds)
@@ -411,13 +436,12 @@ func (s *synth) take(t take, seconds float64) []float64 {
 	f0 := machine.ShaftHz(t.c.RPM)
 	omega := s.speedTrack(rng, n, f0, t.c.BandPercent/100)
 
-	src := make([]float64, n)
-	buf := make([]float64, n)
+	src, buf, out := s.buffers(n)
 	addTones(src, v.tones, 2*math.Pi*rng.Float64(), omega)
 	addNoise(src, buf, rng, bandpass(v.resHz, v.resQ, s.rate).run, v.res)
 	addNoise(src, buf, rng, bandpass(4000, 0.8, s.rate).run, v.bearing)
 	addNoise(src, buf, rng, func(x []float64) { lowpass(x, v.flowHz, s.rate) }, v.flow)
-	level := sourceRMS * math.Pow(t.c.RPM/maxRPM(t.m), speedLawDB/20.0)
+	level := sourceRMS * math.Pow(t.c.RPM/maxRPM(t.m, false), speedLawDB/20.0)
 	scale(src, level/math.Max(rms(src), 1e-300))
 	if t.fault == "outer-race" {
 		s.addOuterRace(src, buf, rng, t.m, omega, level)
@@ -429,7 +453,6 @@ func (s *synth) take(t take, seconds float64) []float64 {
 	} else {
 		d = 1.5 + 0.8*rng.Float64()
 	}
-	out := make([]float64, n)
 	for i, x := range src {
 		out[i] = x / d
 	}
@@ -486,8 +509,7 @@ func (s *synth) addOuterRace(src, buf []float64, rng *rand.Rand, m *machine.Mach
 func (s *synth) background(t take, seconds float64) []float64 {
 	rng := s.stream("take/" + t.path)
 	n := int(math.Round(seconds * s.rate))
-	out := make([]float64, n)
-	buf := make([]float64, n)
+	out, buf, far := s.buffers(n)
 	addNoise(out, buf, rng, func(x []float64) { lowpass(x, 80, s.rate) }, 0.02)
 	addNoise(out, buf, rng, func(x []float64) { lowpass(x, 600, s.rate) }, 0.01)
 	addNoise(out, buf, rng, nil, 0.003)
@@ -501,7 +523,6 @@ func (s *synth) background(t take, seconds float64) []float64 {
 	for h, a := range []float64{0.008, 0.003} {
 		blower = append(blower, tone{order: float64(12 * (h + 1)), amp: a, phase: 2 * math.Pi * rng.Float64()})
 	}
-	far := make([]float64, n)
 	addTones(far, blower, 0, s.speedTrack(rng, n, f0, 0.005))
 	lowpass(far, 500, s.rate)
 	for i, x := range far {

@@ -21,8 +21,8 @@ const (
 // Caution is a short safety note for anyone recording next to running
 // machinery.
 const Caution = `Recording near running machinery:
-- Wear hearing protection at and above 85 dB(A) over a shift; every +3 dB halves the safe time.
-- Keep yourself, microphones and cables clear of rotating shafts, couplings, belts and fan intakes.
+- Hearing protection at and above 85 dB(A) over a shift; each +3 dB halves safe time.
+- Keep yourself and cables clear of rotating shafts, couplings, belts and fan intakes.
 - Fit or move sensors only under the site's lock-out/tag-out procedure.
 - Never remove or open a guard to place a microphone.
 - Local regulations and the site's safety rules take precedence over these notes.`

@@ -116,7 +116,7 @@ func TestReportEU(t *testing.T) {
 		{84.96, 8, []float64{80, 85}}, // rounds to 85.0 as printed
 		{86.9, 8, []float64{80, 85}},
 		{87, 8, []float64{80, 85, 87}},
-		{90, 1, []float64{80}}, // 80.97
+		{90, 1, []float64{80}},     // 80.97
 		{100, 0.25, []float64{80}}, // 84.95 prints as 84.9
 		{60, 24, nil},
 	}

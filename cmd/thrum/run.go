@@ -1,0 +1,184 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"sort"
+	"strings"
+	"text/tabwriter"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"thrum/augment"
+	"thrum/machine"
+	"thrum/split"
+)
+
+func newRunCmd(g *globals) *cobra.Command {
+	var o stageOptions
+	cmd := &cobra.Command{
+		Use:   "run PLANT.toml --out DIR",
+		Short: "Run the whole pipeline, resumably: survey, expand, faults, split, features, audit",
+		Long: `run does every stage in order. Each stage skips work already done and verified (ledger
+line and file hash), so a run interrupted anywhere (Ctrl-C or kill) resumes to byte-identical
+results when started again with the same arguments.
+
+With --shard I/N (or a batch scheduler's index, see --shard), run does only this shard's
+share of expand and faults and writes its own ledger parts; a later run without a shard
+joins the parts and finishes split, features and audit.`,
+		Args: exactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := o.validate(); err != nil {
+				return err
+			}
+			return runPipeline(cmd.Context(), g, o, args[0])
+		},
+	}
+	o.addFlags(cmd)
+	return cmd
+}
+
+type machineReport struct {
+	clips, recorded, augmented int
+	rejected, faults           map[string]int
+	splits                     map[string]int
+}
+
+func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath string) error {
+	t0 := time.Now()
+	p, err := machine.Load(plantPath)
+	if err != nil {
+		return err
+	}
+	sh, _ := o.shard()
+	if sh.N <= 1 {
+		if _, err := augment.MergeShards(p, o.Out); err != nil {
+			return err
+		}
+	}
+	inv, err := machine.Scan(p, machine.ScanOptions{})
+	if err != nil {
+		return err
+	}
+	for _, pr := range inv.Problems {
+		fmt.Fprintf(g.stderr, "survey: %s\n", pr)
+	}
+	r := o.renderer(g)
+	opt, err := augmentOptions(inv, o, r)
+	if err != nil {
+		return err
+	}
+	exp, err := augment.Expand(ctx, inv, opt)
+	if err != nil {
+		r.finish()
+		return err
+	}
+	flt, err := augment.Faults(ctx, inv, opt)
+	r.finish()
+	if err != nil {
+		return err
+	}
+	if sh.N > 1 {
+		printSummaries(g, o.JSON, "expand", exp)
+		printSummaries(g, o.JSON, "faults", flt)
+		fmt.Fprintf(g.stdout, "shard %d/%d done in %.1f s; when every shard is done, run without --shard to join them and finish\n", sh.I, sh.N, time.Since(t0).Seconds())
+		return nil
+	}
+	if err := runSplitQuiet(p, o.Out); err != nil {
+		return err
+	}
+	if _, err := runFeatures(ctx, g, o, p); err != nil {
+		return err
+	}
+	rep, err := split.Audit(o.Out, split.AuditOptions{})
+	if err != nil {
+		return err
+	}
+	reports := map[string]*machineReport{}
+	get := func(id string) *machineReport {
+		if reports[id] == nil {
+			reports[id] = &machineReport{rejected: map[string]int{}, faults: map[string]int{}, splits: map[string]int{}}
+		}
+		return reports[id]
+	}
+	for _, s := range exp {
+		m := get(s.Machine)
+		m.clips, m.recorded, m.augmented = s.Clips, s.Recorded, s.Augmented
+		for k, v := range s.Rejected {
+			m.rejected[k] += v
+		}
+	}
+	for _, s := range flt {
+		for k, v := range s.Faults {
+			get(s.Machine).faults[k] += v
+		}
+	}
+	rows, _, err := split.ReadSplits(o.Out)
+	if err != nil {
+		return err
+	}
+	for _, row := range rows {
+		get(row.Machine).splits[row.Split]++
+	}
+	verdict := "clean"
+	if !rep.OK() {
+		verdict = fmt.Sprintf("%d violation(s)", len(rep.Violations))
+	}
+	wall := time.Since(t0)
+	if o.JSON {
+		for _, id := range sortedKeys(reports) {
+			m := reports[id]
+			writeJSONLine(g.stdout, map[string]any{"event": "machine", "machine": id, "clips": m.clips, "recorded": m.recorded,
+				"augmented": m.augmented, "rejected": m.rejected, "faults": m.faults, "splits": m.splits})
+		}
+		writeJSONLine(g.stdout, map[string]any{"event": "done", "audit": verdict, "violations": len(rep.Violations), "wall_s": wall.Seconds()})
+	} else {
+		tw := tabwriter.NewWriter(g.stdout, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "machine\tclips\tvariants\trejected\tfault cues\ttrain\teval\ttest\texcluded")
+		for _, id := range sortedKeys(reports) {
+			m := reports[id]
+			fmt.Fprintf(tw, "%s\t%d\t%d\t%s\t%s\t%d\t%d\t%d\t%d\n", id, m.clips, m.augmented, counts(m.rejected), counts(m.faults),
+				m.splits[split.Train], m.splits[split.Eval], m.splits[split.Test], m.splits[split.Excluded])
+		}
+		tw.Flush()
+		fmt.Fprintf(g.stdout, "audit: %s; wall time %.1f s; outputs in %s\n", verdict, wall.Seconds(), o.Out)
+		if !rep.OK() {
+			rep.WriteText(g.stdout)
+		}
+	}
+	if !rep.OK() {
+		return &problemsError{"audit found violations"}
+	}
+	return nil
+}
+
+func runSplitQuiet(p *machine.Plant, out string) error {
+	return runSplit(context.Background(), &globals{stdout: discard{}, stderr: discard{}}, stageOptions{Out: out}, p)
+}
+
+type discard struct{}
+
+func (discard) Write(b []byte) (int, error) { return len(b), nil }
+
+func sortedKeys[V any](m map[string]V) []string {
+	out := make([]string, 0, len(m))
+	for k := range m {
+		out = append(out, k)
+	}
+	sort.Strings(out)
+	return out
+}
+
+func counts(m map[string]int) string {
+	if len(m) == 0 {
+		return "0"
+	}
+	var parts []string
+	total := 0
+	for _, k := range sortedKeys(m) {
+		parts = append(parts, fmt.Sprintf("%s %d", k, m[k]))
+		total += m[k]
+	}
+	return fmt.Sprintf("%d (%s)", total, strings.Join(parts, ", "))
+}
