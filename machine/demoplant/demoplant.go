@@ -21,11 +21,11 @@ var plantTemplate string
 
 // DefaultSeed is the seed ExampleTOML carries and Write uses when
 // Options.Seed is 0.
-const DefaultSeed = 20260301
+const DefaultSeed = 97
 
 // Defaults and limits of Options.Seconds.
 const (
-	DefaultSeconds = 30.0
+	DefaultSeconds = 20.0
 	MinSeconds     = 1.0
 	MaxSeconds     = 600.0
 	// BackgroundSeconds is the length of the background recording (shorter
@@ -42,7 +42,7 @@ type Options struct {
 	// synthesis; 0 means DefaultSeed. TOML integers are signed, so it must
 	// be at most 2^63−1.
 	Seed uint64
-	// Seconds is the length of each machine recording; 0 means 30 s.
+	// Seconds is the length of each machine recording; 0 means 20 s.
 	Seconds float64
 	// Overwrite lets Write replace an existing plant.toml that differs from
 	// the one it would write. Without it Write refuses, so a real plant is
@@ -129,35 +129,58 @@ func Write(dir string, opt Options) (plantPath string, err error) {
 	return plantPath, nil
 }
 
+// Microphone distance classes of a take.
+const (
+	near = iota // 0.5 … 1 m
+	mid         // 1 … 1.5 m
+	far         // 1.5 … 2.3 m
+)
+
 // take is one file to synthesise.
 type take struct {
 	path       string // relative to the plant folder, slash-separated
 	m          *machine.Machine
 	c          *machine.Condition
-	near       bool   // microphone close to the machine (else far)
+	dist       int    // near, mid or far
 	fault      string // "" or "outer-race"
 	background bool
 }
 
-// plan lists the files of the plant, in a fixed order.
+// plan lists the files of the plant, in a fixed order. Every condition
+// that can be split gets six normal split groups, so that the stable hash
+// of each group fills train, eval and test: take-01 … take-06 at near, far
+// and mid distances in turn; a hold-out condition, which goes to test whole,
+// gets two takes. The conveyor at full speed has a second visit instead of
+// take-06: a session folder with two takes (one group).
 func plan(p *machine.Plant) ([]take, error) {
 	var out []take
+	dists := []int{near, far, mid}
 	for i := range p.Machines {
 		m := &p.Machines[i]
 		for j := range m.Conditions {
 			c := &m.Conditions[j]
 			base := p.Recordings + "/" + m.ID + "/" + c.Name + "/"
-			out = append(out,
-				take{path: base + "take-01.wav", m: m, c: c, near: true},
-				take{path: base + "take-02.wav", m: m, c: c})
-			if m.ID == "conveyor-c1" && c.Name == "full" {
-				// A second visit with two takes: one session folder.
-				sess := base + machine.SessionPrefix + "visit-02/"
-				out[len(out)-1].path = sess + "take-02.wav"
-				out = append(out, take{path: sess + "take-03.wav", m: m, c: c, near: true})
+			add := func(name string, dist int) {
+				out = append(out, take{path: base + name, m: m, c: c, dist: dist})
+			}
+			n := 6
+			if c.HoldOut {
+				n = 2
+			}
+			session := m.ID == "conveyor-c1" && c.Name == "full"
+			if session {
+				n = 5
+			}
+			for k := 0; k < n; k++ {
+				add(fmt.Sprintf("take-%02d.wav", k+1), dists[k%3])
+			}
+			if session {
+				sess := machine.SessionPrefix + "visit-02/"
+				add(sess+"take-06.wav", near)
+				add(sess+"take-07.wav", mid)
 			}
 			if m.ID == "pump-p1" && c.Name == "duty" {
-				out = append(out, take{path: base + machine.AnomalousDir + "/outer-race-01.wav", m: m, c: c, fault: "outer-race"})
+				out = append(out, take{path: base + machine.AnomalousDir + "/outer-race-01.wav", m: m, c: c, dist: mid, fault: "outer-race"})
 			}
 		}
 	}

@@ -140,20 +140,40 @@ func TestLayout(t *testing.T) {
 	want := []string{
 		"backgrounds/hall-ambience.wav",
 		"plant.toml",
-		"recordings/conveyor-c1/full/session-visit-02/take-02.wav",
-		"recordings/conveyor-c1/full/session-visit-02/take-03.wav",
+		"recordings/conveyor-c1/full/session-visit-02/take-06.wav",
+		"recordings/conveyor-c1/full/session-visit-02/take-07.wav",
 		"recordings/conveyor-c1/full/take-01.wav",
+		"recordings/conveyor-c1/full/take-02.wav",
+		"recordings/conveyor-c1/full/take-03.wav",
+		"recordings/conveyor-c1/full/take-04.wav",
+		"recordings/conveyor-c1/full/take-05.wav",
 		"recordings/conveyor-c1/half/take-01.wav",
 		"recordings/conveyor-c1/half/take-02.wav",
+		"recordings/conveyor-c1/half/take-03.wav",
+		"recordings/conveyor-c1/half/take-04.wav",
+		"recordings/conveyor-c1/half/take-05.wav",
+		"recordings/conveyor-c1/half/take-06.wav",
 		"recordings/fan-f1/high/take-01.wav",
 		"recordings/fan-f1/high/take-02.wav",
+		"recordings/fan-f1/high/take-03.wav",
+		"recordings/fan-f1/high/take-04.wav",
+		"recordings/fan-f1/high/take-05.wav",
+		"recordings/fan-f1/high/take-06.wav",
 		"recordings/fan-f1/low/take-01.wav",
 		"recordings/fan-f1/low/take-02.wav",
 		"recordings/pump-p1/duty/anomalous/outer-race-01.wav",
 		"recordings/pump-p1/duty/take-01.wav",
 		"recordings/pump-p1/duty/take-02.wav",
+		"recordings/pump-p1/duty/take-03.wav",
+		"recordings/pump-p1/duty/take-04.wav",
+		"recordings/pump-p1/duty/take-05.wav",
+		"recordings/pump-p1/duty/take-06.wav",
 		"recordings/pump-p1/reduced/take-01.wav",
 		"recordings/pump-p1/reduced/take-02.wav",
+		"recordings/pump-p1/reduced/take-03.wav",
+		"recordings/pump-p1/reduced/take-04.wav",
+		"recordings/pump-p1/reduced/take-05.wav",
+		"recordings/pump-p1/reduced/take-06.wav",
 	}
 	if strings.Join(got, "\n") != strings.Join(want, "\n") {
 		t.Errorf("files:\n%s\nwant:\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
@@ -168,19 +188,40 @@ func TestLayout(t *testing.T) {
 		t.Errorf("inventory problem: %s", pr)
 	}
 	sessions, anomalous := 0, 0
+	groups := map[string]map[string]bool{} // machine/condition → normal groups
 	for _, r := range inv.Recordings {
 		if r.Session == "visit-02" {
 			sessions++
 		}
 		if r.Label == machine.LabelAnomalous {
 			anomalous++
+		} else {
+			k := r.Machine + "/" + r.Condition
+			if groups[k] == nil {
+				groups[k] = map[string]bool{}
+			}
+			groups[k][r.Group] = true
 		}
 		if !r.Usable() {
 			t.Errorf("%s not usable: %v", r.Rel, r.Err)
 		}
 	}
-	if len(inv.Recordings) != 14 || sessions != 2 || anomalous != 1 {
-		t.Errorf("inventory: %d recordings, %d in the session, %d anomalous; want 14, 2, 1", len(inv.Recordings), sessions, anomalous)
+	if len(inv.Recordings) != 34 || sessions != 2 || anomalous != 1 {
+		t.Errorf("inventory: %d recordings, %d in the session, %d anomalous; want 34, 2, 1", len(inv.Recordings), sessions, anomalous)
+	}
+	// Enough split groups: six per condition, so that the stable group
+	// hash fills train, eval and test; two for the held-out condition,
+	// which goes to test.
+	for _, m := range p.Machines {
+		for _, c := range m.Conditions {
+			want := 6
+			if c.HoldOut {
+				want = 2
+			}
+			if n := len(groups[m.ID+"/"+c.Name]); n != want {
+				t.Errorf("%s/%s: %d normal split groups, want %d", m.ID, c.Name, n, want)
+			}
+		}
 	}
 }
 
@@ -227,7 +268,7 @@ func TestRecordingLevels(t *testing.T) {
 	// sound falls as 1/d while reflections and the floor do not. Measured in
 	// the broadband bearing-noise band around 4 kHz, where the room's comb
 	// filtering averages out (a single tonal line may sit in a notch).
-	for _, m := range []string{"pump-p1/duty", "pump-p1/reduced", "fan-f1/high", "fan-f1/low", "conveyor-c1/half"} {
+	for _, m := range []string{"pump-p1/duty", "pump-p1/reduced", "fan-f1/high", "fan-f1/low", "conveyor-c1/full", "conveyor-c1/half"} {
 		near := readWAV(t, filepath.Join(dir, "recordings", m, "take-01.wav"))
 		far := readWAV(t, filepath.Join(dir, "recordings", m, "take-02.wav"))
 		bandpass(4000, 0.8, 16000).run(near)
@@ -308,7 +349,7 @@ func TestStrongestLine(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	near, far := 0, 0
+	nearTakes, others := 0, 0
 	for _, tk := range takes {
 		if tk.background || tk.fault != "" {
 			continue
@@ -327,20 +368,20 @@ func TestStrongestLine(t *testing.T) {
 		want := order * machine.ShaftHz(c.RPM)
 		wlo, whi := order*machine.ShaftHz(lo)-1.5*df, order*machine.ShaftHz(hi)+1.5*df
 		ps := welch(readWAV(t, filepath.Join(dir, filepath.FromSlash(tk.path))), n)
-		if tk.near {
-			near++
+		if tk.dist == near {
+			nearTakes++
 			if got := peakHz(ps, n, float64(p.SampleRate), 20, 3000); got < wlo || got > whi {
 				t.Errorf("%s: strongest line at %.1f Hz, want %.1f Hz (%.1f … %.1f)", tk.path, got, want, wlo, whi)
 			}
 		} else {
-			far++
+			others++
 			if pr := lineProminence(ps, df, 20, 3000, wlo, whi); pr < 15 {
 				t.Errorf("%s: line at %.1f Hz only %.1f dB above the median", tk.path, want, pr)
 			}
 		}
 	}
-	if near != 7 || far != 6 {
-		t.Errorf("checked %d near and %d far takes, want 7 and 6", near, far)
+	if nearTakes != 12 || others != 21 {
+		t.Errorf("checked %d near and %d other takes, want 12 and 21", nearTakes, others)
 	}
 }
 

@@ -39,15 +39,21 @@
 // machine signal is set to −22 dB re full scale at 1 m at the machine's
 // fastest condition, and 30·log10 of the speed ratio lower at slower ones.
 //
-// It reaches the microphone at distance d (0.5–1 m for a near take,
-// 1.5–2.3 m for a far one) as a direct part scaled by 1/d plus twelve early
-// reflections: delays up to twice the room's longest side over the speed
-// of sound, amplitudes decaying 60 dB per Sabine reverberation time
+// The machine signal reaches the microphone at a distance d of its own for
+// each take, near (0.5–1 m: take-01), far (1.5–2.3 m: take-02) or between
+// (1–1.5 m), as a direct part scaled by 1/d plus twelve early reflections:
+// delays up to twice the room's longest side over the speed of sound,
+// amplitudes decaying 60 dB per Sabine reverberation time
 // (RT60 = 0.161·V/Σ S·α) and scaled to 35 % of the reverberant energy
 // 1/r_c², with critical distance r_c = 0.057·√(V/RT60) m. The
 // reflections, mains hum (50 Hz and harmonics, electrical pickup) and the
 // room's noise floor do not depend on d, so each take has its own level
 // and direct-to-noise ratio.
+//
+// Every condition has three split groups, enough to fill train, eval and
+// test; the held-out one, which goes to test whole, has two. The conveyor
+// at full speed has a session folder (two takes, one group) in place of
+// take-03.
 //
 // The anomalous recording adds outer-race impacts of the pump's drive-end
 // bearing at BPFO (Bearing.Orders times the instantaneous shaft rate) less

@@ -447,12 +447,7 @@ func (s *synth) take(t take, seconds float64) []float64 {
 		s.addOuterRace(src, buf, rng, t.m, omega, level)
 	}
 
-	var d float64
-	if t.near {
-		d = 0.5 + 0.5*rng.Float64()
-	} else {
-		d = 1.5 + 0.8*rng.Float64()
-	}
+	d := []float64{0.5, 1, 1.5}[t.dist] + []float64{0.5, 0.5, 0.8}[t.dist]*rng.Float64()
 	for i, x := range src {
 		out[i] = x / d
 	}
