@@ -27,7 +27,7 @@
 // Nyquist frequency; anything that would alias (or image, for r < 1) at
 // least 83 dB down. A Resampler plan holds the polyphase table: exact
 // phases when r = p/q with q ≤ 1000 (1.03 = 103/100 has 100 phases), else
-// 512 phases with linear interpolation between neighbouring phases. Plans
+// 256 phases with linear interpolation between neighbouring phases. Plans
 // are read-only and may be shared; Plans caches them by ratio. The dot
 // products use AVX2/FMA where present and a portable version that rounds
 // identically, so outputs are bit-identical on every machine.

@@ -8,6 +8,9 @@ func dot4FMA(h, x *[4]*float64, n int, out *[4]float64)
 //go:noescape
 func dot4sFMA(h, x *float64, xstride, n int, out *[4]float64)
 
+//go:noescape
+func dot4pFMA(h, x *[4]*float64, n int, out *[4]float64)
+
 func cpuid(eax, ecx uint32) (a, b, c, d uint32)
 
 func xgetbv0() uint32
@@ -51,4 +54,13 @@ func dot4s(h, x *float64, xstride, n int, out *[4]float64) {
 		return
 	}
 	dot4sLanes(h, x, xstride, n, out)
+}
+
+// dot4p is dot4 for x[1] == x[0] and x[3] == x[2], with the same rounding.
+func dot4p(h, x *[4]*float64, n int, out *[4]float64) {
+	if haveFMA {
+		dot4pFMA(h, x, n, out)
+		return
+	}
+	dot4Lanes(h, x, n, out)
 }

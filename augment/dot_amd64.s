@@ -138,6 +138,72 @@ sreduce:
 	VZEROUPPER
 	RET
 
+// func dot4pFMA(h, x *[4]*float64, n int, out *[4]float64)
+// dot4FMA for x[1] == x[0] and x[3] == x[2] (two rows per window): each
+// window block is loaded once and used twice. Same summation order.
+TEXT ·dot4pFMA(SB), NOSPLIT, $0-32
+	MOVQ h+0(FP), AX
+	MOVQ 0(AX), R8
+	MOVQ 8(AX), R9
+	MOVQ 16(AX), R10
+	MOVQ 24(AX), R11
+	MOVQ x+8(FP), AX
+	MOVQ 0(AX), R12
+	MOVQ 16(AX), R13
+	MOVQ n+16(FP), CX
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	VXORPD Y4, Y4, Y4
+	VXORPD Y5, Y5, Y5
+	VXORPD Y6, Y6, Y6
+	VXORPD Y7, Y7, Y7
+	XORQ AX, AX
+
+ploop:
+	CMPQ AX, CX
+	JGE  preduce
+	VMOVUPD 0(R12)(AX*8), Y8
+	VMOVUPD 32(R12)(AX*8), Y9
+	VMOVUPD 0(R13)(AX*8), Y10
+	VMOVUPD 32(R13)(AX*8), Y11
+	VFMADD231PD 0(R8)(AX*8), Y8, Y0
+	VFMADD231PD 32(R8)(AX*8), Y9, Y1
+	VFMADD231PD 0(R9)(AX*8), Y8, Y2
+	VFMADD231PD 32(R9)(AX*8), Y9, Y3
+	VFMADD231PD 0(R10)(AX*8), Y10, Y4
+	VFMADD231PD 32(R10)(AX*8), Y11, Y5
+	VFMADD231PD 0(R11)(AX*8), Y10, Y6
+	VFMADD231PD 32(R11)(AX*8), Y11, Y7
+	ADDQ $8, AX
+	JMP  ploop
+
+preduce:
+	MOVQ out+24(FP), DX
+	VADDPD Y1, Y0, Y0
+	VADDPD Y3, Y2, Y2
+	VADDPD Y5, Y4, Y4
+	VADDPD Y7, Y6, Y6
+	VEXTRACTF128 $1, Y0, X1
+	VEXTRACTF128 $1, Y2, X3
+	VEXTRACTF128 $1, Y4, X5
+	VEXTRACTF128 $1, Y6, X7
+	VADDPD X1, X0, X0
+	VADDPD X3, X2, X2
+	VADDPD X5, X4, X4
+	VADDPD X7, X6, X6
+	VHADDPD X0, X0, X0
+	VHADDPD X2, X2, X2
+	VHADDPD X4, X4, X4
+	VHADDPD X6, X6, X6
+	VMOVSD X0, 0(DX)
+	VMOVSD X2, 8(DX)
+	VMOVSD X4, 16(DX)
+	VMOVSD X6, 24(DX)
+	VZEROUPPER
+	RET
+
 // func cpuid(eax, ecx uint32) (a, b, c, d uint32)
 TEXT ·cpuid(SB), NOSPLIT, $0-24
 	MOVL eax+0(FP), AX

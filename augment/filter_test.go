@@ -5,9 +5,9 @@ import (
 	"testing"
 )
 
-// RBJ cookbook coefficients at fs 48 kHz, f0 1 kHz, Q 1/√2, computed with
-// numpy from R. Bristow-Johnson, "Cookbook formulae for audio equalizer
-// biquad filter coefficients" (W3C Audio WG Note, 2021).
+// RBJ cookbook coefficients at fs 48 kHz, f0 1 kHz, Q 1/√2, evaluated in
+// double precision from R. Bristow-Johnson, "Cookbook formulae for audio
+// equalizer biquad filter coefficients" (W3C Audio WG Note, 2021).
 func TestRBJCoefficients(t *testing.T) {
 	q := 1 / math.Sqrt2
 	for _, c := range []struct {

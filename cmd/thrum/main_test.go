@@ -48,7 +48,7 @@ func cli(t testing.TB, args ...string) (string, string, int) {
 func demo(t testing.TB) string {
 	t.Helper()
 	dir := t.TempDir()
-	p, err := demoplant.Write(dir, demoplant.Options{Seed: 7})
+	p, err := demoplant.Write(dir, demoplant.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

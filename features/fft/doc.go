@@ -27,7 +27,8 @@
 //
 // A real transform of length n is a complex transform of length n/2 on
 // z[j] = x[2j] + i·x[2j+1] followed by a split pass. The complex kernel is a
-// Stockham autosort FFT (radix 4, with one radix-8 pass when log2 of the
+// Stockham autosort FFT (C. Van Loan, Computational Frameworks for the Fast
+// Fourier Transform, SIAM 1992) (radix 4, with one radix-8 pass when log2 of the
 // length is odd) on precomputed twiddle tables, each twiddle computed
 // directly with math.Sincos rather than by recurrence. Plans (Real, Complex)
 // hold scratch space: reuse one per goroutine. With a reused destination

@@ -236,7 +236,10 @@ func pass4(y, x []complex128, s int, w1, w2, w3 []complex128) {
 	w1 = w1[:h]
 	w2 = w2[:h]
 	w3 = w3[:h]
-	for p := range w1 {
+	// p = 0 has unit twiddles.
+	bfly4Unit(y[:s], y[s:2*s], y[2*s:3*s], y[3*s:4*s],
+		x[:s], x[quarter:quarter+s], x[2*quarter:2*quarter+s], x[3*quarter:3*quarter+s])
+	for p := 1; p < len(w1); p++ {
 		wa, wb, wc := w1[p], w2[p], w3[p]
 		i := s * p
 		x0 := x[i : i+s]
@@ -272,14 +275,11 @@ func pass4(y, x []complex128, s int, w1, w2, w3 []complex128) {
 // input and output share the same layout.
 func pass4Last(y, x []complex128) {
 	s := len(x) / 4
-	x0 := x[:s]
-	x1 := x[s : 2*s]
-	x2 := x[2*s : 3*s]
-	x3 := x[3*s : 4*s]
-	y0 := y[:s]
-	y1 := y[s : 2*s]
-	y2 := y[2*s : 3*s]
-	y3 := y[3*s : 4*s]
+	bfly4Unit(y[:s], y[s:2*s], y[2*s:3*s], y[3*s:4*s], x[:s], x[s:2*s], x[2*s:3*s], x[3*s:4*s])
+}
+
+// bfly4Unit runs len(x0) radix-4 butterflies with unit twiddles.
+func bfly4Unit(y0, y1, y2, y3, x0, x1, x2, x3 []complex128) {
 	x1 = x1[:len(x0)]
 	x2 = x2[:len(x0)]
 	x3 = x3[:len(x0)]
