@@ -28,12 +28,15 @@ type Item struct {
 }
 
 // ItemsFromLedger turns the "output" lines of a ledger into items; other
-// lines are skipped. A missing Speed (0) is taken as 1, a missing Group as
+// lines, and the features stage's lines, are skipped. A missing Speed (0) is taken as 1, a missing Group as
 // the Source.
 func ItemsFromLedger(entries []machine.Entry) []Item {
 	var out []Item
 	for _, e := range entries {
-		if e.Kind != machine.EntryOutput {
+		// Features-stage lines name feature arrays (masked copies of a
+		// training clip's features), not audio: they follow their input
+		// clip's split and are checked against it by the audit.
+		if e.Kind != machine.EntryOutput || e.Stage == "features" {
 			continue
 		}
 		it := Item{

@@ -8,8 +8,10 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"runtime"
 	"sort"
 	"strings"
+	"sync"
 
 	"thrum/machine"
 	"thrum/machine/wavio"
@@ -146,8 +148,16 @@ type AuditOptions struct {
 	SkipNearDuplicates bool
 	// MaxBER is the near-duplicate threshold (0 means DefaultMaxBER).
 	MaxBER float64
-	// Load reads audio (nil means LoadWAV).
+	// Load reads audio (nil means LoadWAV). It is called from several
+	// goroutines at once.
 	Load LoadFunc
+	// Workers is the number of files fingerprinted at once (0 means
+	// GOMAXPROCS).
+	Workers int
+	// Progress, when set, is called after each file of a stage
+	// ("fingerprint", "search"), always from the goroutine that called
+	// Audit or AuditLists.
+	Progress func(stage string, done, total int)
 }
 
 func (o AuditOptions) load() LoadFunc {
@@ -166,7 +176,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	if err != nil {
 		return nil, err
 	}
-	entries, err := readLedgers(out)
+	entries, err := ReadLedgers(out)
 	if err != nil {
 		return nil, err
 	}
@@ -213,13 +223,11 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	// Every listed file exists, matches its listed hash and its ledger line.
 	hashes := map[string]string{}
 	for _, r := range active {
-		b, err := os.ReadFile(filepath.Join(out, filepath.FromSlash(r.Path)))
+		h, err := HashFile(filepath.Join(out, filepath.FromSlash(r.Path)))
 		if err != nil {
 			rep.add(RuleListed, "cannot read: "+err.Error(), r.Path)
 			continue
 		}
-		s := sha256.Sum256(b)
-		h := hex.EncodeToString(s[:])
 		hashes[r.Path] = h
 		if h != r.SHA256 {
 			rep.add(RuleListed, "sha256 on disk "+h[:12]+"… differs from the listed "+short(r.SHA256), r.Path)
@@ -238,13 +246,18 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 		}
 	}
 	rep.ran(RuleListed, len(active))
-	ledgerOrigin := func(r Row) (string, string) {
+	// The ledger, not the list, is authoritative for origin, label and speed.
+	checked := make([]Row, len(active))
+	for i, r := range active {
 		if e, ok := byPath[r.Path]; ok {
-			return e.Origin, e.Label
+			r.Origin, r.Label = e.Origin, e.Label
+			if e.Speed != 0 {
+				r.Speed = e.Speed
+			}
 		}
-		return r.Origin, r.Label
+		checked[i] = r
 	}
-	checkRows(rep, active, plan, ledgerOrigin, hashes)
+	checkRows(rep, checked, plan, hashes)
 
 	// Statistics fitted on training only.
 	split := map[string]string{}
@@ -299,7 +312,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 }
 
 // checkRows applies the rules that need only the rows and the plan.
-func checkRows(rep *Report, rows []Row, plan Plan, origin func(Row) (string, string), hashes map[string]string) {
+func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 	groupSplit := map[string]map[string][]string{}
 	sourceSplit := map[string]map[string][]string{}
 	add := func(m map[string]map[string][]string, k, s, path string) {
@@ -310,7 +323,7 @@ func checkRows(rep *Report, rows []Row, plan Plan, origin func(Row) (string, str
 	}
 	bg := plan.Backgrounds
 	for _, r := range rows {
-		o, l := origin(r)
+		o, l := r.Origin, r.Label
 		add(groupSplit, r.Machine+"\x00"+r.Group, r.Split, r.Path)
 		if r.SourceSHA256 != "" {
 			add(sourceSplit, r.SourceSHA256, r.Split, r.Path)
@@ -397,12 +410,11 @@ func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, erro
 	rep := &Report{}
 	hashes := map[string]string{}
 	for _, p := range append(append([]string(nil), trainPaths...), evalPaths...) {
-		b, err := os.ReadFile(p)
+		h, err := HashFile(p)
 		if err != nil {
-			return nil, fmt.Errorf("split: %w", err)
+			return nil, err
 		}
-		s := sha256.Sum256(b)
-		hashes[p] = hex.EncodeToString(s[:])
+		hashes[p] = h
 	}
 	byHash := map[string][]string{}
 	for _, p := range trainPaths {
@@ -426,33 +438,19 @@ func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, erro
 // nearDuplicates indexes the training files' prints and queries each eval
 // file's. Paths are joined to root when root is not empty.
 func nearDuplicates(rep *Report, root string, train, eval []string, opt AuditOptions) error {
-	load := opt.load()
-	fps := map[float64]*Fingerprinter{}
-	printOf := func(p string) (Print, error) {
-		full := p
-		if root != "" {
-			full = filepath.Join(root, filepath.FromSlash(p))
-		}
-		x, fs, err := load(full)
+	all := append(append([]string(nil), train...), eval...)
+	prints, errs := printFiles(root, all, opt)
+	for i, err := range errs {
 		if err != nil {
-			return Print{}, fmt.Errorf("split: %s: %w", p, err)
+			rep.add(RuleNearDup, "not checked: "+err.Error(), all[i])
 		}
-		if fs < 4000 {
-			return Print{}, fmt.Errorf("split: %s: sample rate %g Hz too low to fingerprint", p, fs)
-		}
-		f := fps[fs]
-		if f == nil {
-			f = NewFingerprinter(fs)
-			fps[fs] = f
-		}
-		return f.Print(Print{}, x), nil
 	}
 	// One index per frame hop, so prints at different rates never mix.
 	idx := map[float64]*Index{}
-	for _, p := range train {
-		pr, err := printOf(p)
-		if err != nil {
-			return err
+	for i, p := range train {
+		pr := prints[i]
+		if errs[i] != nil {
+			continue
 		}
 		ix := idx[pr.Hop]
 		if ix == nil {
@@ -463,26 +461,142 @@ func nearDuplicates(rep *Report, root string, train, eval []string, opt AuditOpt
 		ix.Add(p, pr)
 	}
 	rep.Indexed = len(train)
-	for _, p := range eval {
-		pr, err := printOf(p)
-		if err != nil {
-			return err
+	// Queries in parallel, one searcher per worker; results kept in order.
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	searchers := map[float64][]*Searcher{}
+	for hop, ix := range idx {
+		for range workers {
+			searchers[hop] = append(searchers[hop], ix.NewSearcher())
 		}
-		rep.Queries++
-		ix := idx[pr.Hop]
-		if ix == nil {
-			continue
+	}
+	found := make([][]Match, len(eval))
+	asked := make([]bool, len(eval))
+	next := make(chan int)
+	done := make(chan int)
+	var wg sync.WaitGroup
+	for wk := range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				pr := prints[len(train)+i]
+				if errs[len(train)+i] == nil {
+					if ss := searchers[pr.Hop]; ss != nil {
+						found[i] = ss[wk].Query(pr)
+					}
+					asked[i] = true
+				}
+				done <- i
+			}
+		}()
+	}
+	go func() {
+		for i := range eval {
+			next <- i
 		}
-		for _, m := range ix.Query(pr) {
-			rep.add(RuleNearDup, fmt.Sprintf("near-duplicate: fingerprint BER %.3f at offset %.3f s", m.BER, float64(m.Offset)*pr.Hop), m.ID, p)
+		close(next)
+		wg.Wait()
+		close(done)
+	}()
+	n := 0
+	for range done {
+		n++
+		if opt.Progress != nil {
+			opt.Progress("search", n, len(eval))
+		}
+	}
+	for i, p := range eval {
+		if asked[i] {
+			rep.Queries++
+		}
+		hop := prints[len(train)+i].Hop
+		for _, m := range found[i] {
+			rep.add(RuleNearDup, fmt.Sprintf("near-duplicate: fingerprint BER %.3f at offset %.3f s", m.BER, float64(m.Offset)*hop), m.ID, p)
 		}
 	}
 	rep.ran(RuleNearDup, len(eval))
 	return nil
 }
 
-// readLedgers reads every OUT/*/ledger.jsonl, in name order.
-func readLedgers(out string) ([]machine.Entry, error) {
+// printFiles loads and fingerprints paths on opt.Workers goroutines, each
+// with its own Fingerprinter per sample rate. errs[i] says why path i has no
+// print.
+func printFiles(root string, paths []string, opt AuditOptions) (prints []Print, errs []error) {
+	load := opt.load()
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	prints = make([]Print, len(paths))
+	errs = make([]error, len(paths))
+	next := make(chan int)
+	done := make(chan int)
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			fps := map[float64]*Fingerprinter{}
+			for i := range next {
+				full := paths[i]
+				if root != "" {
+					full = filepath.Join(root, filepath.FromSlash(paths[i]))
+				}
+				x, fs, err := load(full)
+				switch {
+				case err != nil:
+					errs[i] = fmt.Errorf("split: %s: %w", paths[i], err)
+				case !(fs >= 4000):
+					errs[i] = fmt.Errorf("split: %s: sample rate %g Hz too low to fingerprint", paths[i], fs)
+				default:
+					f := fps[fs]
+					if f == nil {
+						f = NewFingerprinter(fs)
+						fps[fs] = f
+					}
+					prints[i] = f.Print(Print{}, x)
+				}
+				done <- i
+			}
+		}()
+	}
+	go func() {
+		for i := range paths {
+			next <- i
+		}
+		close(next)
+		wg.Wait()
+		close(done)
+	}()
+	n := 0
+	for range done {
+		n++
+		if opt.Progress != nil {
+			opt.Progress("fingerprint", n, len(paths))
+		}
+	}
+	return prints, errs
+}
+
+// HashFile returns the hex SHA-256 of the file's bytes, streamed.
+func HashFile(name string) (string, error) {
+	f, err := os.Open(name)
+	if err != nil {
+		return "", fmt.Errorf("split: %w", err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("split: %s: %w", name, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// ReadLedgers reads every OUT/*/ledger.jsonl, in file-name order.
+func ReadLedgers(out string) ([]machine.Entry, error) {
 	files, err := filepath.Glob(filepath.Join(out, "*", "ledger.jsonl"))
 	if err != nil {
 		return nil, fmt.Errorf("split: %w", err)

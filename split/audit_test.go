@@ -65,7 +65,7 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 	if err := os.WriteFile(filepath.Join(dir, "pump-a1", "ledger.jsonl"), ledger.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	entries, err := readLedgers(dir)
+	entries, err := ReadLedgers(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -242,7 +242,7 @@ func TestAuditLists(t *testing.T) {
 	mm := newMachineModel(rng, 16000)
 	var train, eval []string
 	for i := range 8 {
-		x := mm.record(rng, 3)
+		x := mm.record(rng, 10)
 		p := filepath.Join(dir, fmt.Sprintf("train%d.wav", i))
 		wavio.WriteFile(p, x, 16000, 1, wavio.PCM16)
 		train = append(train, p)
@@ -254,9 +254,12 @@ func TestAuditLists(t *testing.T) {
 	}
 	for i := range 6 {
 		q := filepath.Join(dir, fmt.Sprintf("eval%d.wav", i))
-		wavio.WriteFile(q, mm.record(rng, 3), 16000, 1, wavio.PCM16)
+		wavio.WriteFile(q, mm.record(rng, 10), 16000, 1, wavio.PCM16)
 		eval = append(eval, q)
 	}
+	bad := filepath.Join(dir, "eval-bad.wav")
+	os.WriteFile(bad, []byte("not a wav file"), 0o644)
+	eval = append(eval, bad)
 	rep, err := AuditLists(train, eval, AuditOptions{})
 	if err != nil {
 		t.Fatal(err)
@@ -271,7 +274,37 @@ func TestAuditLists(t *testing.T) {
 			t.Errorf("leak %d not flagged", i)
 		}
 	}
-	if n := len(rep.Violations); n != 2 {
-		t.Errorf("%d violations, want 2: %v", n, rep.Violations)
+	if !strings.Contains(got, "eval-bad.wav") {
+		t.Error("an undecodable file is not reported")
+	}
+	if n := len(rep.Violations); n != 3 {
+		t.Errorf("%d violations, want 3: %v", n, rep.Violations)
+	}
+}
+
+func TestListPaths(t *testing.T) {
+	dir := t.TempDir()
+	os.MkdirAll(filepath.Join(dir, "a", "b"), 0o755)
+	for _, p := range []string{"a/x.wav", "a/b/y.WAV", "a/notes.txt"} {
+		os.WriteFile(filepath.Join(dir, filepath.FromSlash(p)), []byte("x"), 0o644)
+	}
+	os.WriteFile(filepath.Join(dir, "list.txt"), []byte("# train\na/x.wav\n\n/abs/z.wav\n"), 0o644)
+	os.WriteFile(filepath.Join(dir, "list.csv"), []byte("split,path\ntrain,a/x.wav\n"), 0o644)
+	for _, tc := range []struct {
+		arg  string
+		want []string
+	}{
+		{filepath.Join(dir, "a"), []string{filepath.Join(dir, "a", "b", "y.WAV"), filepath.Join(dir, "a", "x.wav")}},
+		{filepath.Join(dir, "list.txt"), []string{filepath.Join(dir, "a", "x.wav"), "/abs/z.wav"}},
+		{filepath.Join(dir, "list.csv"), []string{filepath.Join(dir, "a", "x.wav")}},
+		{filepath.Join(dir, "a", "x.wav"), []string{filepath.Join(dir, "a", "x.wav")}},
+	} {
+		got, err := ListPaths(tc.arg)
+		if err != nil || fmt.Sprint(got) != fmt.Sprint(tc.want) {
+			t.Errorf("ListPaths(%s) = %v, %v; want %v", tc.arg, got, err, tc.want)
+		}
+	}
+	if _, err := ListPaths(filepath.Join(dir, "missing")); err == nil {
+		t.Error("no error for a missing path")
 	}
 }

@@ -12,7 +12,7 @@ const (
 	// fpFrameSeconds is the analysis frame; it is rounded up to a power of
 	// two in samples (512 at 16 kHz).
 	fpFrameSeconds = 0.030
-	// fpHopFraction is the hop as a fraction of the frame (1/2: 16 ms at 16 kHz).
+	// fpHopDiv: the hop is the frame divided by fpHopDiv (16 ms at 16 kHz).
 	fpHopDiv = 2
 	// fpBands is the number of bands; adjacent pairs give 32 bits per frame.
 	fpBands = 33
@@ -70,7 +70,7 @@ func NewFingerprinter(fs float64) *Fingerprinter {
 	}
 	high := math.Min(fpHighHz, 0.45*fs)
 	// Band edges equally spaced on the mel scale m = 2595 log10(1 + f/700)
-	// (O'Shaughnessy 1987), so the low bands are not narrower than a bin.
+	// (O'Shaughnessy 1987, from memory), so the low bands are not narrower than a bin.
 	mel := func(hz float64) float64 { return 2595 * math.Log10(1+hz/700) }
 	hz := func(m float64) float64 { return 700 * (math.Pow(10, m/2595) - 1) }
 	m0, m1 := mel(fpLowHz), mel(high)
@@ -98,13 +98,16 @@ func NewFingerprinter(fs float64) *Fingerprinter {
 // Print computes the print of x into dst (reusing its slices; a zero Print
 // allocates) and returns it. Bit m of frame t is
 //
-//	F(t,m) = 1  if  [E(t,m) − E(t,m+1)] − [E(t−1,m) − E(t−1,m+1)] > 0
+//	F(t,m) = 1  if  [S(t+L,m) − S(t+L,m+1)] − [S(t,m) − S(t,m+1)] > 0
 //
-// where E(t,m) is the energy of band m in frame t (Haitsma & Kalker 2002,
-// eq. 1). The double difference cancels anything steady in time (a
-// machine's harmonic lines, its long-term spectrum, the gain), so the bits
-// follow the fine time structure of the noise and transients of one
-// particular recording.
+// (Haitsma & Kalker 2002, eq. 1, with a lag of L = 4 frames), where
+// S(t,m) = Σ_k w_k E(t+k,m) is the energy E of band m smoothed over 32
+// frames with Hann weights w. The double difference cancels anything steady
+// in time (a machine's harmonic lines, its long-term spectrum, the gain), so
+// the bits follow the slow fluctuations of the noise and transients of one
+// particular recording. A clip of n samples gives
+// (n − frame)/hop + 1 − 31 − 4 words (589 for 10 s at 16 kHz); a shorter one
+// none.
 func (f *Fingerprinter) Print(dst Print, x []float64) Print {
 	nraw := 0
 	if len(x) >= f.n {

@@ -1,6 +1,7 @@
 package split
 
 import (
+	"math"
 	"math/bits"
 	"math/rand/v2"
 	"sort"
@@ -12,33 +13,47 @@ const (
 	ixTables = 12
 	// ixKeyBits is the key length: bits sampled from a window of ixSpan
 	// frames (bit sampling LSH for the Hamming distance, Indyk & Motwani 1998).
-	ixKeyBits = 16
+	ixKeyBits = 14
 	ixSpan    = 64
-	// ixStride: only every ixStride-th frame of an indexed print is stored;
-	// a query probes all its frames, so any alignment is still found, and the
-	// envelopes are smooth enough that a neighbouring frame matches too.
+	// ixStride: only every ixStride-th window of an indexed print is stored;
+	// a query probes every ixQueryStride-th of its own, so every alignment
+	// meets stored windows, and the envelopes are smooth enough that a
+	// window a frame or two off matches too.
 	ixStride = 4
 	// ixBin is the width, in frames, of the offset histogram bins.
-	ixBin = 8
+	ixBin = 16
 	// ixMinVotes is the vote count (in two neighbouring bins) that makes a
 	// candidate worth verifying.
 	ixMinVotes = 4
-	// ixBlock is the verification block length in frames (~1 s); each
-	// block finds its own best offset within ±ixDrift of the candidate's,
-	// which follows a speed change of a few percent.
+	// ixBlock is the verification block length in frames (~1 s); blocks are
+	// compared at offsets within ±ixDrift of the candidate's, and the best
+	// straight line through them follows a speed change of up to 3 %.
 	ixBlock = 64
-	ixDrift = 12
+	ixDrift = 20
 	// ixMaxVerify caps the candidates verified per query (most votes
 	// first), which bounds the query cost whatever the index size.
-	ixMaxVerify = 16
+	ixMaxVerify = 64
 	// ixQueryStride: the query probes every ixQueryStride-th frame.
 	ixQueryStride = 2
 	// DefaultMaxBER is the verified bit error rate at or below which two
-	// prints are called near-duplicates. Unrelated prints give about 0.5
-	// (about 0.45 after the best-offset search); copies after gain, shift,
-	// 10 dB SNR noise or a 2 % speed change measure 0.15 to 0.33 here.
+	// prints are called near-duplicates. Unrelated prints give about 0.5;
+	// distinct recordings of one synthetic machine verify at 0.43 or more
+	// after the best-line search, while copies after ±6 dB gain, ±0.5 s
+	// shift, 10 dB SNR white noise or ±2 % speed measure 0 to 0.33
+	// (TestNearDuplicateSearch).
 	DefaultMaxBER = 0.39
 )
+
+type cand struct {
+	pi, off int
+	votes   int
+}
+
+// verifier holds the scratch space of verify.
+type verifier struct {
+	table []float64
+	shift []int
+}
 
 // Match is one indexed print found near a query.
 type Match struct {
@@ -55,22 +70,49 @@ type Match struct {
 // Index finds near-duplicates of a print among the prints added to it, by
 // bit-sampling hash tables and offset voting, then verifying the best
 // candidates by their bit error rate. Memory is about ixTables·8/ixStride
-// bytes plus 4 bytes per indexed frame. An Index is not safe for concurrent
-// use: Query reuses scratch space.
+// bytes plus 4 bytes per indexed frame. Add and Index.Query are not safe for
+// concurrent use; for parallel queries give each goroutine a Searcher.
 type Index struct {
 	MaxBER float64 // 0 means DefaultMaxBER
 
 	ids    []string
 	prints [][]uint32
 	// pat[t] lists the (frame offset, bit) pairs table t samples.
-	pat   [ixTables][ixKeyBits]struct{ dt, bit uint8 }
-	start [ixTables][]uint32 // bucket directory: 2^ixKeyBits + 1 offsets
-	ent   [ixTables][]uint64 // print<<24 | frame, grouped by key
-	built int                // number of prints in the tables
-	// scratch for Query
+	pat    [ixTables][ixKeyBits]struct{ dt, bit uint8 }
+	start  [ixTables][]uint32 // bucket directory: 2^ixKeyBits + 1 offsets
+	ent    [ixTables][]uint64 // print<<24 | frame, grouped by key
+	built  int                // number of prints in the tables
+	maxLen int                // longest indexed print, frames
+	def    *Searcher
+}
+
+// Searcher queries an Index with its own scratch space. Several searchers
+// of one index may run concurrently, as long as nothing is added to the
+// index meanwhile.
+type Searcher struct {
+	ix      *Index
 	votes   []uint16
 	touched []int
-	maxLen  int // longest indexed print, frames
+	best    map[int]cand
+	cands   []cand
+	vs      verifier
+}
+
+// NewSearcher builds the index's tables (if prints were added since) and
+// returns a searcher for it.
+func (ix *Index) NewSearcher() *Searcher {
+	ix.build()
+	return &Searcher{ix: ix, best: map[int]cand{}}
+}
+
+// Query is NewSearcher().Query(p) with a searcher kept by the index; it is
+// not safe for concurrent use.
+func (ix *Index) Query(p Print) []Match {
+	if ix.def == nil {
+		ix.def = ix.NewSearcher()
+	}
+	ix.build()
+	return ix.def.Query(p)
 }
 
 // NewIndex returns an empty index. The bit-sampling patterns come from a
@@ -85,6 +127,19 @@ func NewIndex() *Index {
 		}
 	}
 	return ix
+}
+
+// Bytes returns the approximate memory held by the index, in bytes: the
+// words of every print and, once a query has built them, the tables.
+func (ix *Index) Bytes() int {
+	n := 0
+	for _, w := range ix.prints {
+		n += 4 * len(w)
+	}
+	for t := range ixTables {
+		n += 8*len(ix.ent[t]) + 4*len(ix.start[t])
+	}
+	return n
 }
 
 // Len returns the number of prints added.
@@ -140,9 +195,13 @@ func (ix *Index) build() {
 
 // Query returns the indexed prints whose verified BER against p is at or
 // below MaxBER, best first (ties by id). Prints shorter than one key window
-// (ixSpan frames, about 1 s) are never matched.
-func (ix *Index) Query(p Print) []Match {
-	ix.build()
+// (ixSpan frames, about 1 s) are never matched. It panics if prints were
+// added to the index after the searcher was made.
+func (s *Searcher) Query(p Print) []Match {
+	ix := s.ix
+	if ix.built != len(ix.ids) {
+		panic("split: Searcher used after Index.Add; make a new searcher")
+	}
 	w := p.Words
 	if len(w) < ixSpan || len(ix.ids) == 0 {
 		return nil
@@ -150,38 +209,38 @@ func (ix *Index) Query(p Print) []Match {
 	// Dense vote counters: one row of offset bins per indexed print.
 	// offset = indexed frame − query frame ∈ (−len(w), maxLen).
 	nb := (len(w)+ix.maxLen)/ixBin + 2
-	if need := nb * len(ix.prints); cap(ix.votes) < need {
-		ix.votes = make([]uint16, need)
+	if need := nb * len(ix.prints); cap(s.votes) < need {
+		s.votes = make([]uint16, need)
 	} else {
-		ix.votes = ix.votes[:need]
+		s.votes = s.votes[:need]
 	}
-	ix.touched = ix.touched[:0]
+	s.touched = s.touched[:0]
 	for t := range ixTables {
 		st, ent := ix.start[t], ix.ent[t]
 		for f := 0; f+ixSpan <= len(w); f += ixQueryStride {
 			k := ix.key(t, w, f)
 			for _, e := range ent[st[k]:st[k+1]] {
 				c := int(e>>24)*nb + (int(e&(1<<24-1))-f+len(w))/ixBin
-				v := ix.votes[c]
+				v := s.votes[c]
 				if v == 0 {
-					ix.touched = append(ix.touched, c)
+					s.touched = append(s.touched, c)
 				}
 				if v < 1<<16-1 {
-					ix.votes[c] = v + 1
+					s.votes[c] = v + 1
 				}
 			}
 		}
 	}
 	// Best bin pair per print.
-	type cand struct {
-		pi, off int
-		votes   int
+	if s.best == nil {
+		s.best = map[int]cand{}
 	}
-	best := map[int]cand{}
-	for _, c := range ix.touched {
-		v := int(ix.votes[c])
+	clear(s.best)
+	best := s.best
+	for _, c := range s.touched {
+		v := int(s.votes[c])
 		if (c+1)%nb != 0 {
-			v += int(ix.votes[c+1])
+			v += int(s.votes[c+1])
 		}
 		if v < ixMinVotes {
 			continue
@@ -192,10 +251,10 @@ func (ix *Index) Query(p Print) []Match {
 			best[pi] = cand{pi, off, v}
 		}
 	}
-	for _, c := range ix.touched {
-		ix.votes[c] = 0
+	for _, c := range s.touched {
+		s.votes[c] = 0
 	}
-	cands := make([]cand, 0, len(best))
+	cands := s.cands[:0]
 	for _, c := range best {
 		cands = append(cands, c)
 	}
@@ -205,6 +264,7 @@ func (ix *Index) Query(p Print) []Match {
 		}
 		return cands[i].pi < cands[j].pi
 	})
+	s.cands = cands
 	if len(cands) > ixMaxVerify {
 		cands = cands[:ixMaxVerify]
 	}
@@ -214,7 +274,7 @@ func (ix *Index) Query(p Print) []Match {
 	}
 	var out []Match
 	for _, c := range cands {
-		e, off := verify(w, ix.prints[c.pi], c.off)
+		e, off := s.vs.verify(w, ix.prints[c.pi], c.off)
 		if e <= maxBER {
 			out = append(out, Match{ID: ix.ids[c.pi], Offset: off, BER: e, Votes: c.votes})
 		}
@@ -228,42 +288,75 @@ func (ix *Index) Query(p Print) []Match {
 	return out
 }
 
-// verify returns the mean over ixBlock-frame blocks of q of each block's
-// minimum BER against d for offsets within ±ixDrift of off (indexed frame =
-// query frame + offset), and the offset of the best block. Blocks without a
-// full overlap are skipped; with none, it returns 1.
-func verify(q, d []uint32, off int) (float64, int) {
-	var sum float64
-	n := 0
-	bestOff, bestE := off, 2.0
-	for s := 0; s+ixBlock <= len(q); s += ixBlock {
-		blk := q[s : s+ixBlock]
-		m := 2.0
-		mo := off
-		for o := off - ixDrift; o <= off+ixDrift; o++ {
-			lo := s + o
+// verify scores a candidate alignment. The query q is cut into ixBlock-frame
+// blocks and each block's BER against d is tabled for every offset within
+// ±ixDrift of off (indexed frame = query frame + offset). The score is the
+// best straight line through that table,
+//
+//	o(b) = o0 + ρ·(centre of block b − centre of q),  |o0 − off| ≤ ixDrift,
+//	ρ ∈ {−0.03, −0.025, …, 0.03},
+//
+// i.e. a constant offset plus the linear drift of a speed change up to ±3 %;
+// the mean BER of the blocks along the best line is returned with the
+// offset at the query's centre. Blocks the line leaves the table or the
+// indexed print for are skipped; a line needs half the blocks. With none it
+// returns 1.
+func (vs *verifier) verify(q, d []uint32, off int) (float64, int) {
+	nb := len(q) / ixBlock
+	if nb == 0 {
+		return 1, off
+	}
+	const no = 2*ixDrift + 1
+	if cap(vs.table) < nb*no {
+		vs.table = make([]float64, nb*no)
+		vs.shift = make([]int, nb)
+	}
+	table := vs.table[:nb*no]
+	shift := vs.shift[:nb]
+	for b := range nb {
+		row := table[b*no : (b+1)*no]
+		blk := q[b*ixBlock : (b+1)*ixBlock]
+		for j := range no {
+			lo := b*ixBlock + off - ixDrift + j
 			if lo < 0 || lo+ixBlock > len(d) {
+				row[j] = -1
 				continue
 			}
 			diff := 0
 			for i, v := range blk {
 				diff += bits.OnesCount32(v ^ d[lo+i])
 			}
-			if e := float64(diff) / (32 * ixBlock); e < m {
-				m, mo = e, o
+			row[j] = float64(diff) / (32 * ixBlock)
+		}
+	}
+	mid := float64(len(q)) / 2
+	best, bestOff := 2.0, off
+	for r := -6; r <= 6; r++ {
+		rho := 0.005 * float64(r)
+		for b := range shift {
+			shift[b] = int(math.Round(rho * (float64(b*ixBlock+ixBlock/2) - mid)))
+		}
+		for j0 := range no {
+			var sum float64
+			n := 0
+			for b := range nb {
+				j := j0 + shift[b]
+				if j < 0 || j >= no || table[b*no+j] < 0 {
+					continue
+				}
+				sum += table[b*no+j]
+				n++
+			}
+			if 2*n < nb || n == 0 {
+				continue
+			}
+			if e := sum / float64(n); e < best {
+				best, bestOff = e, off-ixDrift+j0
 			}
 		}
-		if m > 1 {
-			continue
-		}
-		sum += m
-		n++
-		if m < bestE {
-			bestE, bestOff = m, mo
-		}
 	}
-	if n == 0 {
+	if best > 1 {
 		return 1, off
 	}
-	return sum / float64(n), bestOff
+	return best, bestOff
 }
