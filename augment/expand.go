@@ -66,6 +66,10 @@ type Options struct {
 	Backgrounds []string
 	// Shard limits the work to one shard (zero value: everything).
 	Shard Shard
+	// Trains, when set, says whether a group of normal recordings will be
+	// a training group; variants and fault cues are made only for those
+	// (the split would exclude the others). Nil: every group.
+	Trains func(machineID, group string) bool
 	// Progress, when set, is called after each recording (see Event).
 	Progress func(Event)
 }
@@ -493,7 +497,8 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 	res := jobResult{job: j}
 	r := j.rec
 	recipe := e.p.RecipeFor(j.m, j.c)
-	augmentable := r.Label == machine.LabelNormal && !j.c.HoldOut && recipe != nil
+	augmentable := r.Label == machine.LabelNormal && !j.c.HoldOut && recipe != nil &&
+		(e.opt.Trains == nil || e.opt.Trains(r.Machine, r.Group))
 	st := stem(r)
 	folder := "recorded"
 	if r.Label == machine.LabelAnomalous {

@@ -24,7 +24,8 @@ func (e *env) faultJob(ctx context.Context, j job) jobResult {
 	res := jobResult{job: j}
 	r := j.rec
 	plan := j.m.Faults
-	if plan == nil || r.Label != machine.LabelNormal || j.c.HoldOut || len(plan.Kinds) == 0 {
+	if plan == nil || r.Label != machine.LabelNormal || j.c.HoldOut || len(plan.Kinds) == 0 ||
+		(e.opt.Trains != nil && !e.opt.Trains(r.Machine, r.Group)) {
 		return res
 	}
 	st := stem(r)

@@ -5,7 +5,7 @@ import (
 	"math"
 	"math/cmplx"
 
-	"gonum.org/v1/gonum/dsp/fourier"
+	"thrum/features/fft"
 )
 
 // EnvelopePlan does envelope analysis for bearing diagnostics: band-pass
@@ -17,8 +17,7 @@ import (
 //
 // The steps, for a signal x of n samples at fs Hz:
 //
-//  1. Zero-pad x to N, the smallest power of two ≥ n (gonum's FFT is slow
-//     for sizes with large prime factors).
+//  1. Zero-pad x to N, the smallest power of two ≥ n.
 //  2. Real FFT X[k], k = 0..N/2, bin width fs/N.
 //  3. Band mask and analytic signal in one step: Z[k] = c_k·X[k] for
 //     lo ≤ k·fs/N ≤ hi and 0 elsewhere, with c_0 = c_{N/2} = 1 and c_k = 2
@@ -35,13 +34,14 @@ import (
 // f_c ± f_m, the envelope is 1 + m·cos 2πf_m t, so the envelope spectrum
 // has a line of amplitude m at f_m: m relative to the envelope's mean.
 //
-// A plan holds the FFT plans and scratch space for signals of one length.
-// Build it once with NewEnvelopePlan and reuse it; it is not safe for
-// concurrent use.
+// A plan holds the FFT plans and scratch space for signals of one length;
+// Reset moves it to another length, keeping the FFT plans when the padded
+// size stays the same. Build it once with NewEnvelopePlan and reuse it; it
+// is not safe for concurrent use.
 type EnvelopePlan struct {
 	n, size int
-	fft     *fourier.FFT
-	cfft    *fourier.CmplxFFT
+	fft     *fft.Real
+	cfft    *fft.Complex
 	coef    []complex128 // size/2+1 real-FFT coefficients
 	ana     []complex128 // size analytic spectrum, then analytic signal
 	pad     []float64    // size real scratch
@@ -55,28 +55,43 @@ func NewEnvelopePlan(n int) *EnvelopePlan {
 	if n < 1 {
 		panic(fmt.Sprintf("features: envelope plan length %d < 1", n))
 	}
+	p := &EnvelopePlan{}
+	p.Reset(n)
+	return p
+}
+
+// Reset makes the plan accept signals of n samples. It panics if n < 1.
+func (p *EnvelopePlan) Reset(n int) {
+	if n < 1 {
+		panic(fmt.Sprintf("features: envelope plan length %d < 1", n))
+	}
 	size := 1
 	for size < n {
 		size <<= 1
 	}
-	p := &EnvelopePlan{
-		n:    n,
-		size: size,
-		fft:  fourier.NewFFT(size),
-		cfft: fourier.NewCmplxFFT(size),
-		coef: make([]complex128, size/2+1),
-		ana:  make([]complex128, size),
-		pad:  make([]float64, size),
-		win:  make([]float64, n),
+	if size < 2 {
+		size = 2
 	}
-	for i := range p.win {
-		p.win[i] = 0.5 * (1 - math.Cos(2*math.Pi*float64(i)/float64(n)))
-		p.winSum += p.win[i]
+	if size != p.size {
+		p.size = size
+		p.fft = fft.NewReal(size)
+		p.cfft = fft.NewComplex(size)
+		p.coef = make([]complex128, size/2+1)
+		p.ana = make([]complex128, size)
+		p.pad = make([]float64, size)
 	}
-	if n == 1 {
-		p.win[0], p.winSum = 1, 1
+	if n != p.n {
+		p.n = n
+		p.win = envResize(p.win, n)
+		p.winSum = 0
+		for i := range p.win {
+			p.win[i] = 0.5 * (1 - math.Cos(2*math.Pi*float64(i)/float64(n)))
+			p.winSum += p.win[i]
+		}
+		if n == 1 {
+			p.win[0], p.winSum = 1, 1
+		}
 	}
-	return p
 }
 
 // Len returns the signal length the plan accepts.
@@ -112,7 +127,7 @@ func (p *EnvelopePlan) Envelope(dst, x []float64, fs, lo, hi float64) []float64 
 
 	copy(p.pad, x)
 	clear(p.pad[p.n:])
-	p.fft.Coefficients(p.coef, p.pad)
+	p.fft.Forward(p.coef, p.pad)
 
 	binHz := fs / float64(p.size)
 	half := p.size / 2
@@ -128,7 +143,7 @@ func (p *EnvelopePlan) Envelope(dst, x []float64, fs, lo, hi float64) []float64 
 		}
 		p.ana[k] = c
 	}
-	z := p.cfft.Sequence(p.ana, p.ana)
+	z := p.cfft.Inverse(p.ana, p.ana)
 	scale := 1 / float64(p.size)
 	for i := range dst {
 		dst[i] = cmplx.Abs(z[i]) * scale
@@ -152,7 +167,7 @@ func (p *EnvelopePlan) Spectrum(dst, x []float64, fs, lo, hi float64) (spec []fl
 		env[i] = (env[i] - mean) * p.win[i]
 	}
 	clear(p.pad[p.n:])
-	p.fft.Coefficients(p.coef, p.pad)
+	p.fft.Forward(p.coef, p.pad)
 
 	spec = envResize(dst, len(p.coef))
 	half := p.size / 2

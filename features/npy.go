@@ -9,6 +9,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"thrum/machine"
 )
 
 // npyAlign is the alignment of the data block; numpy itself pads to 64.
@@ -112,7 +114,7 @@ func writeF32(w io.Writer, data []float32, buf []byte) error {
 // WriteNPYFile writes a .npy file at path atomically (temporary name in the
 // same folder, then rename).
 func WriteNPYFile(path string, data []float32, shape ...int) error {
-	f, err := createAtomic(path)
+	f, err := machine.CreateAtomic(path)
 	if err != nil {
 		return err
 	}
@@ -257,14 +259,14 @@ func (s *StackWriter) Close() error {
 // Close succeeds (temporary name, then rename).
 type StackFile struct {
 	*StackWriter
-	f  *atomicFile
+	f  *machine.AtomicFile
 	bw *bufio.Writer
 }
 
 // CreateStackFile starts a stacked .npy at path with cols columns and an
 // unknown row count.
 func CreateStackFile(path string, cols int) (*StackFile, error) {
-	f, err := createAtomic(path)
+	f, err := machine.CreateAtomic(path)
 	if err != nil {
 		return nil, err
 	}
@@ -299,7 +301,7 @@ func (sf *StackFile) Abort() { sf.f.Abort() }
 // seekFlusher lets a buffered file be seeked: it flushes before seeking.
 type seekFlusher struct {
 	bw *bufio.Writer
-	f  *atomicFile
+	f  *machine.AtomicFile
 }
 
 func (s *seekFlusher) Write(p []byte) (int, error) { return s.bw.Write(p) }

@@ -15,6 +15,8 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
+
+	"thrum/machine"
 )
 
 // DynamicRangeDB is the colour range of SpectrogramPNG below the loudest
@@ -159,7 +161,7 @@ func savePNG(path string, img *vgimg.Canvas) error {
 	if _, err := (vgimg.PngCanvas{Canvas: img}).WriteTo(&buf); err != nil {
 		return fmt.Errorf("features: png: %w", err)
 	}
-	return writeAtomic(path, buf.Bytes())
+	return machine.WriteFileAtomic(path, buf.Bytes())
 }
 
 // EnvelopePNG plots an envelope spectrum (bin k at k·binHz) and marks each
@@ -185,12 +187,23 @@ func EnvelopePNG(path string, spec []float64, binHz float64, lines map[string]fl
 		xmax = math.Min(xmax, 4*hi)
 	}
 	kmax := min(len(spec)-1, int(math.Ceil(xmax/binHz)))
-	pts := make(plotter.XYs, kmax+1)
+	// At most maxPoints points: each keeps the largest bin of its run, so no
+	// line is lost, and the rasteriser does not draw thousands of segments
+	// per pixel column.
+	const maxPoints = 1600
+	step := (kmax + maxPoints) / maxPoints
+	pts := make(plotter.XYs, 0, kmax/step+1)
 	ymax := 0.0
-	for k := range pts {
-		pts[k].X, pts[k].Y = float64(k)*binHz, spec[k]
-		if k > 0 {
-			ymax = math.Max(ymax, spec[k])
+	for k0 := 0; k0 <= kmax; k0 += step {
+		best := k0
+		for k := k0; k < k0+step && k <= kmax; k++ {
+			if spec[k] > spec[best] {
+				best = k
+			}
+		}
+		pts = append(pts, plotter.XY{X: float64(best) * binHz, Y: spec[best]})
+		if best > 0 {
+			ymax = math.Max(ymax, spec[best])
 		}
 	}
 	if ymax == 0 {

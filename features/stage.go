@@ -181,6 +181,7 @@ func RunStage(ctx context.Context, p *machine.Plant, inputs []Input, opt StageOp
 		setups[in.Machine] = s
 	}
 	old := readIndex(filepath.Join(opt.Out, Dir, IndexFile))
+	keep := pictureInputs(inputs, setups)
 	workers := opt.Workers
 	if workers <= 0 {
 		workers = runtime.NumCPU()
@@ -209,6 +210,9 @@ func RunStage(ctx context.Context, p *machine.Plant, inputs []Input, opt StageOp
 				}
 				r := wk.do(p, opt.Out, in, old[in.Path])
 				r.idx = i
+				if !keep[i] {
+					r.feat = nil // memory stays flat: only picture clips keep their arrays
+				}
 				select {
 				case results <- r:
 				case <-ctx.Done():
@@ -249,6 +253,32 @@ func RunStage(ctx context.Context, p *machine.Plant, inputs []Input, opt StageOp
 		return nil, err
 	}
 	return finishStage(p, opt.Out, inputs, all, setups)
+}
+
+// pictureInputs marks, per machine with pictures on, the first normal
+// recorded training clip, an augmented variant of the same clip and the
+// first synthetic fault: the clips the pictures show.
+func pictureInputs(inputs []Input, setups map[string]machineSetup) map[int]bool {
+	keep := map[int]bool{}
+	rec := map[string]int{}
+	for i, in := range inputs {
+		if !setups[in.Machine].pictures {
+			continue
+		}
+		if _, ok := rec[in.Machine]; !ok && in.Origin == machine.OriginRecorded && in.Split == "train" && in.Label == machine.LabelNormal {
+			rec[in.Machine] = i
+			keep[i] = true
+		}
+	}
+	aug := map[string]bool{}
+	for i, in := range inputs {
+		r, ok := rec[in.Machine]
+		if ok && !aug[in.Machine] && in.Origin == machine.OriginAugmented && in.Source == inputs[r].Source && in.Clip == inputs[r].Clip {
+			aug[in.Machine] = true
+			keep[i] = true
+		}
+	}
+	return keep
 }
 
 // finishStage writes, in input order: statistics, ledger sections, stacked
@@ -313,7 +343,7 @@ type worker struct {
 	st   machineSetup
 	lm   *LogMel
 	sz   *Summarizer
-	env  map[int]*EnvelopePlan
+	env  *EnvelopePlan
 	feat []float32
 }
 
@@ -326,7 +356,7 @@ func newWorker(st machineSetup, fs float64) (*worker, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &worker{st: st, lm: lm, sz: sz, env: map[int]*EnvelopePlan{}}, nil
+	return &worker{st: st, lm: lm, sz: sz}, nil
 }
 
 func npyBytes(data []float32, shape ...int) ([]byte, string, error) {
@@ -366,11 +396,12 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 		return fail(err)
 	}
 	// envelope spectrum, the bearing practitioner's view
-	ep := w.env[len(x)]
+	ep := w.env
 	if ep == nil {
 		ep = NewEnvelopePlan(len(x))
-		w.env[len(x)] = ep
+		w.env = ep
 	}
+	ep.Reset(len(x))
 	spec, binHz := ep.Spectrum(nil, x, fs, w.st.envLo, w.st.envHi)
 	keep := int(w.st.envMax/binHz) + 1
 	if keep > len(spec) {
@@ -495,30 +526,59 @@ func readIndex(file string) map[string]*indexRow {
 	return out
 }
 
+// writeStacks streams each split's feature arrays, read back from their
+// .npy files in index order, into one (rows, bands) array per split.
 func writeStacks(out, id string, bands int, inputs []Input, all []fileResult, idx []int) error {
-	bySplit := map[string][]int{}
-	for _, i := range idx {
-		bySplit[inputs[i].Split] = append(bySplit[inputs[i].Split], i)
-	}
 	for _, sp := range []string{"train", "eval", "test"} {
-		var data []float32
-		rows := 0
-		for _, i := range bySplit[sp] {
-			data = append(data, all[i].feat...)
-			rows += all[i].frames
+		var files []string
+		for _, i := range idx {
+			if inputs[i].Split == sp {
+				files = append(files, filepath.Join(out, filepath.FromSlash(all[i].row.npy)))
+			}
 		}
-		if rows == 0 {
+		if len(files) == 0 {
 			continue
 		}
-		b, _, err := npyBytes(data, rows, bands)
+		sf, err := CreateStackFile(filepath.Join(out, Dir, id, "stack-"+sp+".npy"), bands)
 		if err != nil {
 			return err
 		}
-		if err := machine.WriteFileAtomic(filepath.Join(out, Dir, id, "stack-"+sp+".npy"), b); err != nil {
+		for _, f := range files {
+			data, err := readNPY32(f, bands)
+			if err == nil {
+				err = sf.Write(data)
+			}
+			if err != nil {
+				sf.Abort()
+				return fmt.Errorf("features: stack %s: %w", f, err)
+			}
+		}
+		if err := sf.Close(); err != nil {
 			return err
 		}
 	}
 	return nil
+}
+
+// readNPY32 reads a little-endian float32 .npy file written by WriteNPY
+// whose last dimension is cols.
+func readNPY32(path string, cols int) ([]float32, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	if len(b) < 10 || string(b[1:6]) != "NUMPY" {
+		return nil, fmt.Errorf("not a .npy file")
+	}
+	start := 10 + int(binary.LittleEndian.Uint16(b[8:10]))
+	if start > len(b) || (len(b)-start)%4 != 0 || ((len(b)-start)/4)%cols != 0 {
+		return nil, fmt.Errorf("unexpected .npy layout")
+	}
+	out := make([]float32, (len(b)-start)/4)
+	for i := range out {
+		out[i] = math.Float32frombits(binary.LittleEndian.Uint32(b[start+4*i:]))
+	}
+	return out, nil
 }
 
 // pictures draws, for one machine, a recorded clip next to one of its

@@ -8,6 +8,8 @@ import (
 	"math"
 	"os"
 	"strings"
+
+	"thrum/machine"
 )
 
 // LevelFloorDB is the lowest level Summarize reports (amplitude 1e-10), so
@@ -352,7 +354,7 @@ func (s Stats) Save(path string) error {
 	if err := s.WriteJSON(&buf); err != nil {
 		return err
 	}
-	return writeAtomic(path, buf.Bytes())
+	return machine.WriteFileAtomic(path, buf.Bytes())
 }
 
 // ReadStats decodes and validates statistics; name is used in errors.

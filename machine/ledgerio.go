@@ -17,34 +17,75 @@ const LedgerName = "ledger.jsonl"
 // Stages in the order their sections appear in a ledger.
 var stageRank = map[string]int{"expand": 0, "faults": 1, "features": 2}
 
-// WriteFileAtomic writes data to a temporary file in path's folder, syncs it
-// and renames it over path, so path is either absent, the old file or the
-// complete new one.
-func WriteFileAtomic(path string, data []byte) error {
+// AtomicFile is a temporary file beside its destination: Commit syncs,
+// closes and renames it into place, Abort removes it. The destination is
+// either absent, the old file or the complete new one, whatever happens.
+type AtomicFile struct {
+	*os.File
+	path string
+	done bool
+}
+
+// CreateAtomic starts an AtomicFile for path (mode 0644), creating its
+// folder if needed.
+func CreateAtomic(path string) (*AtomicFile, error) {
 	dir := filepath.Dir(path)
 	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
+		return nil, fmt.Errorf("machine: %w", err)
 	}
 	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
 	if err != nil {
-		return err
+		return nil, fmt.Errorf("machine: %w", err)
 	}
-	tmp := f.Name()
-	_, err = f.Write(data)
-	if err == nil {
-		err = f.Sync()
+	if err := f.Chmod(0o644); err != nil {
+		f.Close()
+		os.Remove(f.Name())
+		return nil, fmt.Errorf("machine: %w", err)
 	}
-	if cerr := f.Close(); err == nil {
+	return &AtomicFile{File: f, path: path}, nil
+}
+
+// Commit makes the file visible at its destination.
+func (a *AtomicFile) Commit() error {
+	if a.done {
+		return fmt.Errorf("machine: %s: already closed", a.path)
+	}
+	a.done = true
+	err := a.File.Sync()
+	if cerr := a.File.Close(); err == nil {
 		err = cerr
 	}
 	if err == nil {
-		err = os.Rename(tmp, path)
+		err = os.Rename(a.File.Name(), a.path)
 	}
 	if err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("machine: write %s: %w", path, err)
+		os.Remove(a.File.Name())
+		return fmt.Errorf("machine: write %s: %w", a.path, err)
 	}
 	return nil
+}
+
+// Abort removes the temporary file; the destination is untouched.
+func (a *AtomicFile) Abort() {
+	if a.done {
+		return
+	}
+	a.done = true
+	a.File.Close()
+	os.Remove(a.File.Name())
+}
+
+// WriteFileAtomic writes data through an AtomicFile.
+func WriteFileAtomic(path string, data []byte) error {
+	f, err := CreateAtomic(path)
+	if err != nil {
+		return err
+	}
+	if _, err := f.Write(data); err != nil {
+		f.Abort()
+		return fmt.Errorf("machine: write %s: %w", path, err)
+	}
+	return f.Commit()
 }
 
 // LoadLedger reads a machine's ledger and any journal left by an interrupted

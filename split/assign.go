@@ -192,6 +192,18 @@ func pick(u float64, f Fractions) string {
 	}
 }
 
+// NormalGroupSplit is the split Assign gives a group of normal recordings
+// of a condition that is not held out: the stage drivers use it to make
+// variants and fault cues only for training groups (those of eval and test
+// groups would be excluded anyway).
+func (p Policy) NormalGroupSplit(machineID, group string) string {
+	f, err := p.FractionsFor(machineID)
+	if err != nil {
+		f = DefaultFractions
+	}
+	return pick(Unit(p.Seed, "group", machineID, group), f)
+}
+
 // Row is one item with its split. Reason says which rule decided it.
 type Row struct {
 	Item

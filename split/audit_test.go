@@ -198,7 +198,7 @@ func TestAuditLeaks(t *testing.T) {
 	if err := WriteListsCSV(&buf, rows); err != nil {
 		t.Fatal(err)
 	}
-	WriteFileAtomic(filepath.Join(dir, SplitsDir, ListsFile), buf.Bytes())
+	machine.WriteFileAtomic(filepath.Join(dir, SplitsDir, ListsFile), buf.Bytes())
 	// 7. Statistics fitted on an eval clip as well.
 	writeStats(t, dir, []string{trainRec.Path, evalRec.Path})
 

@@ -11,6 +11,8 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+
+	"thrum/machine"
 )
 
 // File names under OUT/splits/.
@@ -255,34 +257,9 @@ func WriteSplits(out string, rows []Row, p Policy) error {
 		if err := f.fn(&buf); err != nil {
 			return fmt.Errorf("split: %s: %w", f.name, err)
 		}
-		if err := WriteFileAtomic(filepath.Join(dir, f.name), buf.Bytes()); err != nil {
+		if err := machine.WriteFileAtomic(filepath.Join(dir, f.name), buf.Bytes()); err != nil {
 			return err
 		}
-	}
-	return nil
-}
-
-// WriteFileAtomic writes b to a temporary file next to name, syncs it and
-// renames it over name.
-func WriteFileAtomic(name string, b []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(name), "."+filepath.Base(name)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("split: %w", err)
-	}
-	tmp := f.Name()
-	_, err = f.Write(b)
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, name)
-	}
-	if err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("split: %w", err)
 	}
 	return nil
 }

@@ -15,6 +15,7 @@ import (
 	"testing"
 	"time"
 
+	"thrum/machine"
 	"thrum/machine/demoplant"
 )
 
@@ -219,16 +220,50 @@ func TestOutputInsideRecordingsRefused(t *testing.T) {
 	}
 }
 
-func TestReadOnlyOutputFailsCleanly(t *testing.T) {
-	if os.Geteuid() == 0 {
-		t.Skip("root ignores folder permissions")
-	}
+// A write failure (here: a file stands where a machine's output folder must
+// go, which fails for root too) stops the stage with an error naming the
+// path, and every ledger or journal line written names a complete file.
+func TestWriteFailureLeavesNothingHalfRecorded(t *testing.T) {
 	plant := demo(t)
-	out := filepath.Join(filepath.Dir(plant), "ro")
-	os.MkdirAll(out, 0o555)
+	out := filepath.Join(filepath.Dir(plant), "out")
+	os.MkdirAll(out, 0o755)
+	blocker := filepath.Join(out, "fan-f1")
+	os.WriteFile(blocker, []byte("not a folder"), 0o644)
 	_, stderr, code := cli(t, "expand", plant, "--out", out, "-q")
-	if code == exitOK || !strings.Contains(stderr, "permission denied") {
-		t.Errorf("read-only out: exit %d, %s", code, stderr)
+	if code == exitOK || !strings.Contains(stderr, "fan-f1") {
+		t.Fatalf("expand over a blocked folder: exit %d, %s", code, stderr)
+	}
+	checkRecorded(t, out)
+	if os.Geteuid() != 0 {
+		ro := filepath.Join(filepath.Dir(plant), "ro")
+		os.MkdirAll(ro, 0o555)
+		_, stderr, code := cli(t, "expand", plant, "--out", ro, "-q")
+		if code == exitOK || !strings.Contains(stderr, "permission denied") {
+			t.Errorf("read-only out: exit %d, %s", code, stderr)
+		}
+	}
+}
+
+// checkRecorded verifies that every output named by a ledger or journal
+// line under out exists and hashes to the recorded sha256.
+func checkRecorded(t *testing.T, out string) {
+	t.Helper()
+	files, _ := filepath.Glob(filepath.Join(out, "*", "ledger.jsonl"))
+	js, _ := filepath.Glob(filepath.Join(out, "*", ".journal-*.jsonl"))
+	for _, f := range append(files, js...) {
+		es, err := machine.ReadLedgerFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, e := range es {
+			if e.Kind != machine.EntryOutput {
+				continue
+			}
+			sum, err := machine.HashFile(filepath.Join(out, filepath.FromSlash(e.Path)))
+			if err != nil || sum != e.SHA256 {
+				t.Errorf("%s names %s, which is missing or incomplete (%v)", f, e.Path, err)
+			}
+		}
 	}
 }
 
@@ -260,6 +295,7 @@ func TestKillAndResume(t *testing.T) {
 			kills++
 		}
 		<-done
+		checkRecorded(t, out)
 	}
 	if _, stderr, code := cli(t, "run", plant, "--out", out, "-q"); code != exitOK {
 		t.Fatalf("final resume: %s", stderr)

@@ -3,6 +3,8 @@ package main
 import (
 	"fmt"
 	"io"
+	"os"
+	"runtime/pprof"
 	"sync"
 
 	"github.com/spf13/cobra"
@@ -43,6 +45,29 @@ splits with an audit, features ready for training, and a ledger of everything do
 	root.SetOut(stdout)
 	root.SetErr(stderr)
 	root.PersistentFlags().BoolVar(&g.noCaution, "no-caution", false, "do not print the recording-safety caution")
+	var profile string
+	root.PersistentFlags().StringVar(&profile, "cpu-profile", "", "write a CPU profile to this file (for development)")
+	root.PersistentFlags().MarkHidden("cpu-profile")
+	var stopProfile func()
+	root.PersistentPreRunE = func(cmd *cobra.Command, args []string) error {
+		if profile == "" {
+			return nil
+		}
+		f, err := os.Create(profile)
+		if err != nil {
+			return err
+		}
+		if err := pprof.StartCPUProfile(f); err != nil {
+			return err
+		}
+		stopProfile = func() { pprof.StopCPUProfile(); f.Close() }
+		return nil
+	}
+	root.PersistentPostRun = func(cmd *cobra.Command, args []string) {
+		if stopProfile != nil {
+			stopProfile()
+		}
+	}
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err} })
 	root.AddCommand(
 		newInitCmd(g),

@@ -132,8 +132,10 @@ func augmentOptions(inv *machine.Inventory, o stageOptions, r *renderer) (augmen
 	if err != nil {
 		return augment.Options{}, err
 	}
+	pol := split.PolicyFromPlant(inv.Plant)
+	trains := func(m, group string) bool { return pol.NormalGroupSplit(m, group) == split.Train }
 	return augment.Options{Out: o.Out, Workers: o.Workers, Encoding: enc, Shard: sh,
-		Backgrounds: trainBackgrounds(inv.Plant), Progress: r.event}, nil
+		Backgrounds: trainBackgrounds(inv.Plant), Trains: trains, Progress: r.event}, nil
 }
 
 func trainBackgrounds(p *machine.Plant) []string {

@@ -103,7 +103,7 @@ func Write(dir string, opt Options) (plantPath string, err error) {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return "", fmt.Errorf("demoplant: %w", err)
 	}
-	if err := writeAtomic(plantPath, []byte(text)); err != nil {
+	if err := machine.WriteFileAtomic(plantPath, []byte(text)); err != nil {
 		return "", err
 	}
 	s := newSynth(p, opt.Seed)
@@ -122,7 +122,7 @@ func Write(dir string, opt Options) (plantPath string, err error) {
 		if err := wavio.Encode(&b, x, p.SampleRate, 1, wavio.PCM16); err != nil {
 			return "", fmt.Errorf("demoplant: %s: %w", t.path, err)
 		}
-		if err := writeAtomic(full, b.Bytes()); err != nil {
+		if err := machine.WriteFileAtomic(full, b.Bytes()); err != nil {
 			return "", err
 		}
 	}
@@ -189,30 +189,4 @@ func plan(p *machine.Plant) ([]take, error) {
 	}
 	out = append(out, take{path: p.Backgrounds[0].Path, background: true})
 	return out, nil
-}
-
-func writeAtomic(path string, data []byte) (err error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("demoplant: %w", err)
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	if _, err = f.Write(data); err != nil {
-		return fmt.Errorf("demoplant: %w", err)
-	}
-	if err = f.Chmod(0o644); err != nil {
-		return fmt.Errorf("demoplant: %w", err)
-	}
-	if err = f.Close(); err != nil {
-		return fmt.Errorf("demoplant: %w", err)
-	}
-	if err = os.Rename(f.Name(), path); err != nil {
-		return fmt.Errorf("demoplant: %w", err)
-	}
-	return nil
 }
