@@ -1,13 +1,8 @@
 package main
 
 import (
-	"bufio"
 	"encoding/json"
 	"fmt"
-	"os"
-	"path/filepath"
-	"sort"
-	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -16,6 +11,7 @@ import (
 
 type auditOptions struct {
 	Train, Eval []string
+	Lists       bool
 	JSON        bool
 	Fast        bool
 	MaxBER      float64
@@ -24,7 +20,7 @@ type auditOptions struct {
 func newAuditCmd(g *globals) *cobra.Command {
 	var o auditOptions
 	cmd := &cobra.Command{
-		Use:   "audit DIR | audit --train A --eval B",
+		Use:   "audit DIR | audit --lists TRAIN EVAL | audit --train A --eval B",
 		Short: "Prove from the files that no evaluation data leaks into training",
 		Long: `audit re-derives every rule from the files, the ledgers and the split lists of an output
 root, and exits with code 3 and a report naming each leak when a rule is broken: every
@@ -34,11 +30,18 @@ training files only; backgrounds partitioned. It also searches for near-duplicat
 split boundary with an audio fingerprint robust to gain, time shift, added noise and small
 speed changes, so it finds copies that no ledger mentions.
 
-Without a ledger (a dataset assembled by hand or by another tool), give the two sides with
---train and --eval: each is a folder (searched for .wav files) or a text file listing one
-path per line; only the near-duplicate search runs.`,
-		Args: rangeArgs(0, 1),
+Without a ledger (a dataset assembled by hand or by another tool), use the lists mode:
+--lists TRAIN EVAL, or --train and --eval (repeatable). Each side is a folder (searched for
+.wav files), a .wav file, a text file listing one path per line, or a CSV with a "path"
+column; only the near-duplicate search runs.`,
+		Args: rangeArgs(0, 2),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if o.Lists {
+				if len(args) != 2 {
+					return &usageError{fmt.Errorf("--lists takes two arguments: TRAIN EVAL")}
+				}
+				o.Train, o.Eval, args = append(o.Train, args[0]), append(o.Eval, args[1]), nil
+			}
 			opt := split.AuditOptions{SkipNearDuplicates: o.Fast, MaxBER: o.MaxBER}
 			var rep *split.Report
 			var err error
@@ -76,6 +79,7 @@ path per line; only the near-duplicate search runs.`,
 		},
 	}
 	f := cmd.Flags()
+	f.BoolVar(&o.Lists, "lists", false, "lists mode: the two arguments are the training and evaluation sides")
 	f.StringSliceVar(&o.Train, "train", nil, "training side: folders or list files (no ledger needed)")
 	f.StringSliceVar(&o.Eval, "eval", nil, "evaluation side: folders or list files")
 	f.BoolVar(&o.JSON, "json", false, "print the report as JSON")
@@ -84,45 +88,15 @@ path per line; only the near-duplicate search runs.`,
 	return cmd
 }
 
-// expandLists turns folders into their .wav files (recursively, sorted) and
-// list files into their lines.
+// expandLists turns each argument into audio paths (see split.ListPaths).
 func expandLists(args []string) ([]string, error) {
 	var out []string
 	for _, a := range args {
-		st, err := os.Stat(a)
+		ps, err := split.ListPaths(a)
 		if err != nil {
 			return nil, err
 		}
-		if st.IsDir() {
-			err := filepath.WalkDir(a, func(p string, d os.DirEntry, err error) error {
-				if err == nil && !d.IsDir() && strings.EqualFold(filepath.Ext(p), ".wav") {
-					out = append(out, p)
-				}
-				return err
-			})
-			if err != nil {
-				return nil, err
-			}
-			continue
-		}
-		f, err := os.Open(a)
-		if err != nil {
-			return nil, err
-		}
-		sc := bufio.NewScanner(f)
-		for sc.Scan() {
-			if l := strings.TrimSpace(sc.Text()); l != "" && !strings.HasPrefix(l, "#") {
-				if !filepath.IsAbs(l) {
-					l = filepath.Join(filepath.Dir(a), l)
-				}
-				out = append(out, l)
-			}
-		}
-		f.Close()
-		if err := sc.Err(); err != nil {
-			return nil, fmt.Errorf("%s: %w", a, err)
-		}
+		out = append(out, ps...)
 	}
-	sort.Strings(out)
 	return out, nil
 }

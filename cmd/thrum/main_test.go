@@ -431,3 +431,32 @@ func TestBadConfigNamesKeyAndRange(t *testing.T) {
 		t.Errorf("exit %d: %s", code, stderr)
 	}
 }
+
+// Lists mode needs no ledger: a copy of an evaluation clip hidden among the
+// training files is found by its fingerprint.
+func TestAuditListsModeFindsCopy(t *testing.T) {
+	plant := demo(t)
+	rec := filepath.Join(filepath.Dir(plant), "recordings", "pump-p1", "duty")
+	dir := t.TempDir()
+	train, eval := filepath.Join(dir, "train"), filepath.Join(dir, "eval")
+	os.MkdirAll(train, 0o755)
+	os.MkdirAll(eval, 0o755)
+	copyFile := func(src, dst string) {
+		b, err := os.ReadFile(src)
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(dst, b, 0o644)
+	}
+	copyFile(filepath.Join(rec, "take-01.wav"), filepath.Join(train, "a.wav"))
+	copyFile(filepath.Join(rec, "take-02.wav"), filepath.Join(train, "b.wav"))
+	copyFile(filepath.Join(rec, "take-03.wav"), filepath.Join(eval, "c.wav"))
+	if out, _, code := cli(t, "audit", "--lists", train, eval); code != exitOK {
+		t.Fatalf("distinct recordings flagged (exit %d):\n%s", code, out)
+	}
+	copyFile(filepath.Join(rec, "take-03.wav"), filepath.Join(train, "hidden.wav"))
+	out, _, code := cli(t, "audit", "--lists", train, eval)
+	if code != exitProblems || !strings.Contains(out, "hidden.wav") {
+		t.Errorf("copy not found (exit %d):\n%s", code, out)
+	}
+}

@@ -488,7 +488,8 @@ func decode[T float32 | float64](dst []T, src []byte, k sampleKind, mask uint32)
 		m := uint16(mask)
 		src = src[:2*len(dst)]
 		for i := range dst {
-			dst[i] = T(int16(le.Uint16(src[2*i:])&m)) * (1.0 / 32768)
+			b := src[2*i : 2*i+2 : 2*i+2]
+			dst[i] = T(int16((uint16(b[0])|uint16(b[1])<<8)&m)) * (1.0 / 32768)
 		}
 	case kindS24:
 		src = src[:3*len(dst)]
