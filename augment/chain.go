@@ -3,6 +3,8 @@ package augment
 import (
 	"context"
 	"fmt"
+	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -86,52 +88,46 @@ func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, 
 	idx := make(chan int)
 	res := make(chan result)
 	var wg sync.WaitGroup
+	type job struct {
+		i      int
+		y      []float64
+		rate   int
+		frames int64
+	}
 	for w := 0; w < workers; w++ {
-		wg.Add(1)
+		// Each worker hands its finished clip to its own writer, so that
+		// computing the next clip overlaps the file system calls; two
+		// output buffers alternate between them.
+		free := make(chan []float64, 2)
+		free <- nil
+		free <- nil
+		jobs := make(chan job, 1)
+		wg.Add(2)
 		go func() {
 			defer wg.Done()
-			var a, b []float64
-			for i := range idx {
-				n, err := func() (int64, error) {
-					in, err := wavio.ReadFile(paths[i])
-					if err != nil {
-						return 0, err
-					}
-					fs := float64(in.Format.SampleRate)
-					x := in.Mono(a)
-					a = x
-					if o.Speed != 0 && o.Speed != 1 {
-						b = Speed{Ratio: o.Speed, Plans: plans}.Apply(b[:0], x, fs)
-						a, b = b, a
-						x = a
-					}
-					if reverb != nil {
-						b = reverb.Apply(b[:0], x, fs)
-						a, b = b, a
-						x = a
-					}
-					if bg != nil {
-						if bgRate != in.Format.SampleRate {
-							return 0, fmt.Errorf("background rate %d Hz differs from %d Hz", bgRate, in.Format.SampleRate)
-						}
-						off := 0
-						if o.OffsetCycle > 0 {
-							off = int(float64(i%o.OffsetCycle) * o.OffsetStep * fs)
-						}
-						b = Background{Source: bg, SNR: o.SNR, Offset: off}.Apply(b[:0], x, fs)
-						a, b = b, a
-						x = a
-					}
-					if o.GainDB != 0 {
-						Gain{DB: o.GainDB}.Apply(x, x, fs)
-					}
-					out := filepath.Join(o.Out, filepath.Base(paths[i]))
-					return int64(in.Frames), wavio.WriteFile(out, x, in.Format.SampleRate, 1, enc)
-				}()
+			for j := range jobs {
+				out := filepath.Join(o.Out, filepath.Base(paths[j.i]))
+				err := wavio.WriteFile(out, j.y, j.rate, 1, enc)
+				free <- j.y
 				if err != nil {
-					err = fmt.Errorf("augment: chain: %s: %w", paths[i], err)
+					err = fmt.Errorf("augment: chain: %s: %w", paths[j.i], err)
 				}
-				res <- result{n, err}
+				res <- result{j.frames, err}
+			}
+		}()
+		go func() {
+			defer wg.Done()
+			defer close(jobs)
+			var st chainState
+			for i := range idx {
+				y := <-free
+				y, rate, n, err := st.run(&o, i, paths[i], plans, reverb, bg, bgRate, y)
+				if err != nil {
+					free <- y
+					res <- result{0, fmt.Errorf("augment: chain: %s: %w", paths[i], err)}
+					continue
+				}
+				jobs <- job{i, y, rate, n}
 			}
 		}()
 	}
@@ -159,4 +155,129 @@ func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, 
 		return files, frames, fmt.Errorf("%d file(s) failed:\n  %s", len(errs), strings.Join(errs, "\n  "))
 	}
 	return files, frames, ctx.Err()
+}
+
+// chainState is one worker's reusable buffers: the decoded clip and two
+// ping-pong signal buffers, so that a warm worker allocates little per
+// clip.
+type chainState struct {
+	in, a, b []float64
+}
+
+// run processes file i of the batch into out (grown as needed) and returns
+// it with the sample rate and the number of input frames. The steps are
+// those of Speed, Reverb, Background and Gain in turn, with the same
+// arithmetic, but the background mix and the gain share one pass and the
+// background is read in place when it needs no loop.
+func (st *chainState) run(o *ChainOptions, i int, path string, plans *Plans, reverb *room.Reverb, bg []float64, bgRate int, out []float64) ([]float64, int, int64, error) {
+	x, format, err := st.read(path)
+	if err != nil {
+		return out, 0, 0, err
+	}
+	frames := int64(len(x))
+	fs := float64(format.SampleRate)
+	if o.Speed != 0 && o.Speed != 1 {
+		st.a = Speed{Ratio: o.Speed, Plans: plans}.Apply(st.a[:0], x, fs)
+		x = st.a
+	}
+	if reverb != nil {
+		// x is st.in or st.a here, never st.b.
+		st.b = reverb.Apply(st.b[:0], x, fs)
+		x = st.b
+	}
+	k := 1.0
+	if o.GainDB != 0 {
+		k = math.Pow(10, o.GainDB/20)
+	}
+	y := grow(out, len(x))
+	if bg == nil {
+		copy(y, x)
+		scale(y, k)
+		return y, format.SampleRate, frames, nil
+	}
+	if bgRate != format.SampleRate {
+		return y, 0, 0, fmt.Errorf("background rate %d Hz differs from %d Hz", bgRate, format.SampleRate)
+	}
+	off := 0
+	if o.OffsetCycle > 0 {
+		off = int(float64(i%o.OffsetCycle) * o.OffsetStep * fs)
+	}
+	var noise []float64
+	if off >= 0 && off+len(x) <= len(bg) {
+		noise = bg[off : off+len(x)]
+	} else {
+		noise = Background{Source: bg, Offset: off}.Loop(y, fs)
+	}
+	// As Mix, then Gain: y = k·(x + g·noise); a silent clip or background
+	// leaves x unmixed, as Background.Apply does.
+	ps, pn := Power(x, fs, WeightNone), Power(noise, fs, WeightNone)
+	if ps == 0 || pn == 0 || math.IsNaN(ps) || math.IsNaN(pn) || math.IsNaN(o.SNR) || math.IsInf(o.SNR, 0) {
+		copy(y, x)
+		scale(y, k)
+	} else {
+		mixScaled(y, x, noise, NoiseGain(ps, pn, o.SNR), k)
+	}
+	return y, format.SampleRate, frames, nil
+}
+
+// read decodes path into st.in (mono: the per-frame mean of the channels,
+// as Audio.Mono) and returns the samples and the format.
+func (st *chainState) read(path string) ([]float64, wavio.Format, error) {
+	f, err := wavio.Open(path)
+	if err != nil {
+		return nil, wavio.Format{}, err
+	}
+	defer f.Close()
+	format := f.Format()
+	ch := format.Channels
+	// Grow from what the last clip needed, one block at a time, so a
+	// hostile frame count in a header cannot force a large allocation.
+	buf := st.in[:cap(st.in)]
+	const block = 1 << 14
+	total := 0
+	for {
+		if len(buf)-total*ch < block*ch {
+			buf = append(buf[:total*ch], make([]float64, block*ch)...)
+			buf = buf[:cap(buf)]
+		}
+		n, err := f.ReadFrames(buf[total*ch:])
+		total += n
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return nil, format, err
+		}
+	}
+	st.in = buf
+	data := buf[:total*ch]
+	if ch == 1 {
+		return data, format, nil
+	}
+	nf := float64(ch)
+	for j := 0; j < total; j++ {
+		s := 0.0
+		for _, v := range data[j*ch : (j+1)*ch] {
+			s += v
+		}
+		buf[j] = s / nf
+	}
+	return buf[:total], format, nil
+}
+
+// mixScaled sets y[i] = k·(x[i] + g·n[i]). y may alias x or n.
+func mixScaled(y, x, n []float64, g, k float64) {
+	x, n = x[:len(y)], n[:len(y)]
+	for i := range y {
+		y[i] = k * (x[i] + g*n[i])
+	}
+}
+
+func scale(y []float64, k float64) {
+	if k == 1 {
+		return
+	}
+	for i := range y {
+		y[i] *= k
+	}
 }

@@ -84,7 +84,8 @@ type Resampler struct {
 	// position i0+φ reads x[i0-off].
 	taps, off int
 	// table holds phases rows of taps coefficients, row-major. For the
-	// interpolated (irrational) case it has interPhases+1 rows.
+	// interpolated (irrational) case it has interPhases+1 rows, row φ for
+	// phase φ; for exact phases row r holds phase (r·p) mod q.
 	table  []float64
 	phases int
 }
@@ -131,8 +132,14 @@ func NewResampler(r float64) *Resampler {
 	for i := range kern {
 		kern[i] = kaiserSinc(float64(i)/float64(P), fc, half, beta, i0b)
 	}
-	for ph := 0; ph < rows; ph++ {
-		row := rs.table[ph*rs.taps : (ph+1)*rs.taps]
+	for r := 0; r < rows; r++ {
+		row := rs.table[r*rs.taps : (r+1)*rs.taps]
+		ph := r
+		if rs.q != 0 {
+			// Rows in the order applyRational visits them: row r is the
+			// phase of output r, (r·p) mod q, so the table streams.
+			ph = r * rs.p % rs.q
+		}
 		for j := range row {
 			// Distance from the output instant to input sample i0-off+j,
 			// in table steps: ph/P + off − j.
@@ -242,7 +249,7 @@ func (rs *Resampler) applyRational(dst, x []float64) {
 		start, ph := s0, 0
 		d := dst[base : base+4*q]
 		for j := 0; j < q; j++ {
-			dot4s(&rs.table[ph*taps], &x[start], rs.p, taps, &out)
+			dot4s(&rs.table[j*taps], &x[start], rs.p, taps, &out)
 			d[j], d[j+q], d[j+2*q], d[j+3*q] = out[0], out[1], out[2], out[3]
 			start += dp
 			if ph += dq; ph >= q {
@@ -258,6 +265,9 @@ func (rs *Resampler) applyRational(dst, x []float64) {
 func (rs *Resampler) one(x []float64, m int) float64 {
 	taps := rs.taps
 	start, ph, a := rs.locate(m)
+	if rs.q != 0 {
+		ph = m % rs.q // the table row of phase (m·p) mod q
+	}
 	if start < 0 || start+taps > len(x) {
 		v := dotEdge(rs.table[ph*taps:(ph+1)*taps], x, start)
 		if rs.q == 0 {

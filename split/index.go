@@ -1,9 +1,11 @@
 package split
 
 import (
+	"encoding/binary"
 	"math"
 	"math/bits"
 	"math/rand/v2"
+	"slices"
 	"sort"
 )
 
@@ -21,7 +23,7 @@ const (
 	// window a frame or two off matches too.
 	ixStride = 4
 	// ixBin is the width, in frames, of the offset histogram bins.
-	ixBin = 16
+	ixBin = 32
 	// ixMinVotes is the vote count (in two neighbouring bins) that makes a
 	// candidate worth verifying.
 	ixMinVotes = 4
@@ -33,6 +35,17 @@ const (
 	// ixMaxVerify caps the candidates verified per query (most votes
 	// first), which bounds the query cost whatever the index size.
 	ixMaxVerify = 64
+	// ixChance is the number of bin pairs per query that chance alone may
+	// bring to the vote threshold: a query needs at least ixMinVotes, and
+	// more when the index is so large that unrelated prints collect that
+	// many by chance (see chanceThreshold).
+	ixChance = 16
+	// A bucket holding more than ixFullMean times the mean number of
+	// entries per key, plus ixFullMin, is skipped by queries: a key that
+	// many windows share (a stationary stretch common to many clips) carries
+	// no information, and its entries would dominate the query cost.
+	ixFullMean = 8
+	ixFullMin  = 64
 	// ixQueryStride: the query probes every ixQueryStride-th frame.
 	ixQueryStride = 2
 	// DefaultMaxBER is the verified bit error rate at or below which two
@@ -52,7 +65,11 @@ type cand struct {
 // verifier holds the scratch space of verify.
 type verifier struct {
 	table []float64
+	val   []float64 // table padded for the line search, 0 where invalid
+	ok    []int32   // 1 where val holds a block's BER
 	shift []int
+	q64   []uint64    // query words in pairs
+	d64   [2][]uint64 // indexed words in pairs from an even and an odd start
 }
 
 // Match is one indexed print found near a query.
@@ -83,6 +100,7 @@ type Index struct {
 	ent    [ixTables][]uint64 // print<<24 | frame, grouped by key
 	built  int                // number of prints in the tables
 	maxLen int                // longest indexed print, frames
+	full   int                // bucket size above which queries skip a key
 	def    *Searcher
 }
 
@@ -90,19 +108,17 @@ type Index struct {
 // of one index may run concurrently, as long as nothing is added to the
 // index meanwhile.
 type Searcher struct {
-	ix      *Index
-	votes   []uint16
-	touched []int
-	best    map[int]cand
-	cands   []cand
-	vs      verifier
+	ix    *Index
+	votes []uint8
+	cands []cand
+	vs    verifier
 }
 
 // NewSearcher builds the index's tables (if prints were added since) and
 // returns a searcher for it.
 func (ix *Index) NewSearcher() *Searcher {
 	ix.build()
-	return &Searcher{ix: ix, best: map[int]cand{}}
+	return &Searcher{ix: ix}
 }
 
 // Query is NewSearcher().Query(p) with a searcher kept by the index; it is
@@ -161,35 +177,50 @@ func (ix *Index) key(t int, w []uint32, f int) uint32 {
 	return k
 }
 
-// build (re)builds the tables by counting sort on the key.
+// build (re)builds the tables by counting sort on the key, and sets the
+// over-full bucket limit.
 func (ix *Index) build() {
 	if ix.built == len(ix.ids) {
 		return
 	}
 	const nk = 1 << ixKeyBits
+	n := 0
+	for _, w := range ix.prints {
+		if len(w) >= ixSpan {
+			n += (len(w)-ixSpan)/ixStride + 1
+		}
+	}
+	keys := make([]uint16, n)
 	for t := range ixTables {
 		cnt := make([]uint32, nk+1)
+		i := 0
 		for _, w := range ix.prints {
 			for f := 0; f+ixSpan <= len(w); f += ixStride {
-				cnt[ix.key(t, w, f)+1]++
+				k := ix.key(t, w, f)
+				keys[i] = uint16(k)
+				cnt[k+1]++
+				i++
 			}
 		}
 		for k := 1; k <= nk; k++ {
 			cnt[k] += cnt[k-1]
 		}
-		ent := make([]uint64, cnt[nk])
+		ent := make([]uint64, n)
 		pos := make([]uint32, nk)
 		copy(pos, cnt[:nk])
+		i = 0
 		for pi, w := range ix.prints {
 			for f := 0; f+ixSpan <= len(w); f += ixStride {
-				k := ix.key(t, w, f)
+				k := keys[i]
 				ent[pos[k]] = uint64(pi)<<24 | uint64(f)
 				pos[k]++
+				i++
 			}
 		}
 		ix.start[t] = cnt
 		ix.ent[t] = ent
 	}
+	ix.full = ixFullMean*n/nk + ixFullMin
 	ix.built = len(ix.ids)
 }
 
@@ -206,63 +237,75 @@ func (s *Searcher) Query(p Print) []Match {
 	if len(w) < ixSpan || len(ix.ids) == 0 {
 		return nil
 	}
-	// Dense vote counters: one row of offset bins per indexed print.
-	// offset = indexed frame − query frame ∈ (−len(w), maxLen).
+	// Dense saturating vote counters, one row of offset bins per indexed
+	// print; offset = indexed frame − query frame ∈ (−len(w), maxLen). The
+	// array is all zero between queries.
 	nb := (len(w)+ix.maxLen)/ixBin + 2
-	if need := nb * len(ix.prints); cap(s.votes) < need {
-		s.votes = make([]uint16, need)
+	np := len(ix.prints)
+	if need := nb * np; cap(s.votes) < need {
+		s.votes = make([]uint8, need)
 	} else {
 		s.votes = s.votes[:need]
 	}
-	s.touched = s.touched[:0]
+	votes := s.votes
+	hits := 0
 	for t := range ixTables {
 		st, ent := ix.start[t], ix.ent[t]
 		for f := 0; f+ixSpan <= len(w); f += ixQueryStride {
 			k := ix.key(t, w, f)
-			for _, e := range ent[st[k]:st[k+1]] {
-				c := int(e>>24)*nb + (int(e&(1<<24-1))-f+len(w))/ixBin
-				v := s.votes[c]
-				if v == 0 {
-					s.touched = append(s.touched, c)
-				}
-				if v < 1<<16-1 {
-					s.votes[c] = v + 1
+			bucket := ent[st[k]:st[k+1]]
+			if len(bucket) > ix.full {
+				continue // a key shared by too many windows says nothing
+			}
+			hits += len(bucket)
+			base := len(w) - f
+			for _, e := range bucket {
+				c := int(e>>24)*nb + (int(e&(1<<24-1))+base)/ixBin
+				if v := votes[c]; v < 255 {
+					votes[c] = v + 1
 				}
 			}
 		}
 	}
-	// Best bin pair per print.
-	if s.best == nil {
-		s.best = map[int]cand{}
-	}
-	clear(s.best)
-	best := s.best
-	for _, c := range s.touched {
-		v := int(s.votes[c])
-		if (c+1)%nb != 0 {
-			v += int(s.votes[c+1])
-		}
-		if v < ixMinVotes {
-			continue
-		}
-		pi := c / nb
-		off := (c%nb)*ixBin - len(w) + ixBin
-		if b, ok := best[pi]; !ok || v > b.votes {
-			best[pi] = cand{pi, off, v}
-		}
-	}
-	for _, c := range s.touched {
-		s.votes[c] = 0
-	}
+	// Votes a candidate needs: at least ixMinVotes, and more than chance
+	// would give any of the cells if the hits fell at random.
+	need := chanceThreshold(2*float64(hits)/float64(nb*np), nb*np)
+	// Best bin pair per print. A pair reaching need has a bin of at least
+	// h = ⌈need/2⌉, so 8-bin words with no such bin are skipped (SWAR: a
+	// byte v ≥ h sets its top bit in v + 128 − h, or has it set already).
+	h := (need + 1) / 2
+	const ones, tops = 0x0101010101010101, 0x8080808080808080
+	add := ones * uint64(128-min(h, 127))
 	cands := s.cands[:0]
-	for _, c := range best {
-		cands = append(cands, c)
-	}
-	sort.Slice(cands, func(i, j int) bool {
-		if cands[i].votes != cands[j].votes {
-			return cands[i].votes > cands[j].votes
+	for pi := range np {
+		row := votes[pi*nb : (pi+1)*nb]
+		bv, bj := 0, 0
+		pair := func(lo, hi int) {
+			for j := max(lo, 0); j < min(hi, nb-1); j++ {
+				if v := int(row[j]) + int(row[j+1]); v > bv {
+					bv, bj = v, j
+				}
+			}
 		}
-		return cands[i].pi < cands[j].pi
+		i := 0
+		if h <= 127 {
+			for ; i+8 <= nb; i += 8 {
+				if x := binary.LittleEndian.Uint64(row[i:]); (x+add|x)&tops != 0 {
+					pair(i-1, i+8)
+				}
+			}
+		}
+		pair(i-1, nb)
+		if bv >= need {
+			cands = append(cands, cand{pi, bj*ixBin - len(w) + ixBin, bv})
+		}
+	}
+	clear(votes)
+	slices.SortFunc(cands, func(a, b cand) int {
+		if a.votes != b.votes {
+			return b.votes - a.votes
+		}
+		return a.pi - b.pi
 	})
 	s.cands = cands
 	if len(cands) > ixMaxVerify {
@@ -286,6 +329,37 @@ func (s *Searcher) Query(p Print) []Match {
 		return out[i].ID < out[j].ID
 	})
 	return out
+}
+
+// chanceThreshold returns the smallest vote count m ≥ ixMinVotes for which
+// cells·P(X ≥ m) ≤ ixChance, X Poisson with mean mu: the count that chance
+// alone (hits spread uniformly over the cells) would bring fewer than
+// ixChance bin pairs to.
+func chanceThreshold(mu float64, cells int) int {
+	m := ixMinVotes
+	for m < 2*255 && float64(cells)*poissonTail(mu, m) > ixChance {
+		m++
+	}
+	return m
+}
+
+// poissonTail returns P(X ≥ m) for X Poisson with mean mu > 0 (summed from
+// m upward in log space, so a small tail keeps its precision).
+func poissonTail(mu float64, m int) float64 {
+	if mu <= 0 {
+		return 0
+	}
+	lg, _ := math.Lgamma(float64(m) + 1)
+	lp := -mu + float64(m)*math.Log(mu) - lg // log P(X = m)
+	var s float64
+	for i := m; ; i++ {
+		p := math.Exp(lp)
+		s += p
+		if float64(i) > mu && p <= 1e-12*s {
+			return min(s, 1)
+		}
+		lp += math.Log(mu / float64(i+1))
+	}
 }
 
 // verify scores a candidate alignment. The query q is cut into ixBlock-frame
@@ -313,41 +387,63 @@ func (vs *verifier) verify(q, d []uint32, off int) (float64, int) {
 	}
 	table := vs.table[:nb*no]
 	shift := vs.shift[:nb]
+	// Words in pairs, so that one 64-bit popcount compares two frames; d
+	// is paired from both parities, as a block may start at any frame.
+	vs.q64 = pairWords(vs.q64, q[:nb*ixBlock])
+	vs.d64[0] = pairWords(vs.d64[0], d)
+	vs.d64[1] = pairWords(vs.d64[1], d[min(1, len(d)):])
 	for b := range nb {
 		row := table[b*no : (b+1)*no]
-		blk := q[b*ixBlock : (b+1)*ixBlock]
+		blk := vs.q64[b*ixBlock/2 : (b+1)*ixBlock/2]
 		for j := range no {
 			lo := b*ixBlock + off - ixDrift + j
 			if lo < 0 || lo+ixBlock > len(d) {
 				row[j] = -1
 				continue
 			}
+			dd := vs.d64[lo&1][lo>>1:]
+			dd = dd[:len(blk)]
 			diff := 0
 			for i, v := range blk {
-				diff += bits.OnesCount32(v ^ d[lo+i])
+				diff += bits.OnesCount64(v ^ dd[i])
 			}
 			row[j] = float64(diff) / (32 * ixBlock)
 		}
 	}
 	mid := float64(len(q)) / 2
+	// The table again with pad invalid columns either side, wide enough for
+	// the largest shift, so the line search needs no bounds tests (an
+	// invalid cell adds 0 to the sum and 0 to the count).
+	pad := int(math.Ceil(0.03*mid)) + 1
+	wd := no + 2*pad
+	if cap(vs.val) < nb*wd {
+		vs.val = make([]float64, nb*wd)
+		vs.ok = make([]int32, nb*wd)
+	}
+	val, ok := vs.val[:nb*wd], vs.ok[:nb*wd]
+	clear(val)
+	clear(ok)
+	for b := range nb {
+		for j, e := range table[b*no : (b+1)*no] {
+			if e >= 0 {
+				val[b*wd+pad+j], ok[b*wd+pad+j] = e, 1
+			}
+		}
+	}
 	best, bestOff := 2.0, off
 	for r := -6; r <= 6; r++ {
 		rho := 0.005 * float64(r)
 		for b := range shift {
-			shift[b] = int(math.Round(rho * (float64(b*ixBlock+ixBlock/2) - mid)))
+			shift[b] = b*wd + pad + int(math.Round(rho*(float64(b*ixBlock+ixBlock/2)-mid)))
 		}
 		for j0 := range no {
 			var sum float64
-			n := 0
-			for b := range nb {
-				j := j0 + shift[b]
-				if j < 0 || j >= no || table[b*no+j] < 0 {
-					continue
-				}
-				sum += table[b*no+j]
-				n++
+			var n int32
+			for _, sb := range shift {
+				sum += val[sb+j0]
+				n += ok[sb+j0]
 			}
-			if 2*n < nb || n == 0 {
+			if 2*int(n) < nb || n == 0 {
 				continue
 			}
 			if e := sum / float64(n); e < best {
@@ -359,4 +455,18 @@ func (vs *verifier) verify(q, d []uint32, off int) (float64, int) {
 		return 1, off
 	}
 	return best, bestOff
+}
+
+// pairWords packs w[2i] and w[2i+1] into the low and high halves of dst[i]
+// (an odd last word is dropped) and returns dst.
+func pairWords(dst []uint64, w []uint32) []uint64 {
+	n := len(w) / 2
+	if cap(dst) < n {
+		dst = make([]uint64, n)
+	}
+	dst = dst[:n]
+	for i := range dst {
+		dst[i] = uint64(w[2*i]) | uint64(w[2*i+1])<<32
+	}
+	return dst
 }

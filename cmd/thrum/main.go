@@ -46,10 +46,11 @@ func exitCode(err error) int {
 	if err == nil {
 		return exitOK
 	}
-	fmt.Fprintln(os.Stderr, "thrum:", err)
 	if errors.Is(err, context.Canceled) {
-		fmt.Fprintln(os.Stderr, "thrum: interrupted; rerun the same command to resume")
+		fmt.Fprintln(os.Stderr, "thrum: interrupted; what is written is complete: rerun the same command to resume")
+		return exitError
 	}
+	fmt.Fprintln(os.Stderr, "thrum:", err)
 	return exitCodeQuiet(err)
 }
 

@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"path/filepath"
 	"sort"
 	"strings"
 	"text/tabwriter"
@@ -11,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"thrum/augment"
+	"thrum/features"
 	"thrum/machine"
 	"thrum/split"
 )
@@ -126,13 +128,26 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		verdict = fmt.Sprintf("%d violation(s)", len(rep.Violations))
 	}
 	wall := time.Since(t0)
+	rd := features.ReportData{Plant: plantPath, Out: o.Out, WallSeconds: wall.Seconds(), Audit: verdict}
+	for _, v := range rep.Violations {
+		rd.Violations = append(rd.Violations, v.String())
+	}
+	for _, id := range sortedKeys(reports) {
+		m := reports[id]
+		rd.Machines = append(rd.Machines, features.MachineReport{ID: id, Clips: m.clips, Recorded: m.recorded,
+			Augmented: m.augmented, Rejected: m.rejected, Faults: m.faults, Splits: m.splits})
+	}
+	reportPath := filepath.Join(o.Out, "report.html")
+	if err := features.WriteReport(reportPath, rd); err != nil {
+		return err
+	}
 	if o.JSON {
 		for _, id := range sortedKeys(reports) {
 			m := reports[id]
 			writeJSONLine(g.stdout, map[string]any{"event": "machine", "machine": id, "clips": m.clips, "recorded": m.recorded,
 				"augmented": m.augmented, "rejected": m.rejected, "faults": m.faults, "splits": m.splits})
 		}
-		writeJSONLine(g.stdout, map[string]any{"event": "done", "audit": verdict, "violations": len(rep.Violations), "wall_s": wall.Seconds()})
+		writeJSONLine(g.stdout, map[string]any{"event": "done", "audit": verdict, "violations": len(rep.Violations), "wall_s": wall.Seconds(), "report": reportPath})
 	} else {
 		tw := tabwriter.NewWriter(g.stdout, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "machine\tclips\tvariants\trejected\tfault cues\ttrain\teval\ttest\texcluded")
@@ -142,7 +157,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 				m.splits[split.Train], m.splits[split.Eval], m.splits[split.Test], m.splits[split.Excluded])
 		}
 		tw.Flush()
-		fmt.Fprintf(g.stdout, "audit: %s; wall time %.1f s; outputs in %s\n", verdict, wall.Seconds(), o.Out)
+		fmt.Fprintf(g.stdout, "audit: %s; wall time %.1f s; outputs in %s; report: %s\n", verdict, wall.Seconds(), o.Out, reportPath)
 		if !rep.OK() {
 			rep.WriteText(g.stdout)
 		}

@@ -1,6 +1,9 @@
 package fft
 
-import "math"
+import (
+	"math"
+	"unsafe"
+)
 
 // The complex kernel is a Stockham autosort FFT (decimation in frequency):
 // each pass reads one buffer and writes the other, so no bit-reversal
@@ -23,6 +26,10 @@ type pass struct {
 	l     int             // sub-transform length
 	radix int             // 2, 4 or 8
 	w     [7][]complex128 // w[k-1][p] = e^{−2πi·k·p/l}, k = 1 … radix−1, p < l/radix
+	// w8 holds the radix-8 twiddles regrouped for the vector kernel:
+	// w8[14j+2(k−1)+i] = w[k−1][2j+i], i = 0, 1 (nil unless radix 8 and
+	// l/8 is even).
+	w8 []complex128
 }
 
 // plan is the immutable part of a complex FFT of size m (a power of two).
@@ -74,6 +81,15 @@ func newPass(l, radix int) pass {
 			w[i] = twiddle(k*i, l)
 		}
 		p.w[k-1] = w
+	}
+	if radix == 8 && h%2 == 0 {
+		p.w8 = make([]complex128, 7*h)
+		for j := 0; j < h/2; j++ {
+			for k := 1; k < 8; k++ {
+				p.w8[14*j+2*(k-1)] = p.w[k-1][2*j]
+				p.w8[14*j+2*(k-1)+1] = p.w[k-1][2*j+1]
+			}
+		}
 	}
 	return p
 }
@@ -128,6 +144,7 @@ func (p *pass) apply(y, x []complex128, m int) {
 		pass8Last(y, x)
 	case p.radix == 8:
 		pass8Flat(y, x, s, &p.w)
+	case pass4Vec(y, x, p.l, s, p.w[0], p.w[1], p.w[2]):
 	case p.l == 4:
 		pass4Last(y, x)
 	case s < 16:
@@ -194,7 +211,10 @@ func runReal[F float32 | float64](pl *plan, src []F, b0, b1 []complex128) []comp
 	case 4:
 		pass4FirstReal(b0[:m], src, p.w[0], p.w[1], p.w[2])
 	default:
-		pass8FirstReal(b0[:m], src, &p.w)
+		var zero F
+		if unsafe.Sizeof(zero) != 8 || !pass8FirstVec(b0[:m], unsafe.Slice((*float64)(unsafe.Pointer(&src[0])), len(src)), p.w8) {
+			pass8FirstReal(b0[:m], src, &p.w)
+		}
 	}
 	return pl.rest(b0, b1)
 }

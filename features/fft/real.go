@@ -38,6 +38,7 @@ func newRealTables(n int) *realTables {
 type Real struct {
 	t    *realTables
 	a, b []complex128 // scratch, n/2 each
+	xw   []float64    // windowed input, n (made on first use)
 }
 
 // NewReal returns a plan for real sequences of length n. It panics if n is
@@ -142,9 +143,15 @@ func postPower(x []float64, z, w []complex128) {
 	dm := real(z0) - imag(z0)
 	x[0] = d0 * d0
 	x[m] = dm * dm
-	if m < 2 {
+	if m < 2 || postPowerVec(x, z, w) {
 		return
 	}
+	postPowerGo(x, z, w)
+}
+
+// postPowerGo is the portable loop of postPower over bins 1 … m−1.
+func postPowerGo(x []float64, z, w []complex128) {
+	m := len(z)
 	h := m / 2
 	w = w[:h+1]
 	x = x[:m+1]
@@ -273,4 +280,24 @@ func grow[T any](s []T, n int) []T {
 		return make([]T, n)
 	}
 	return s[:n]
+}
+
+// PowerSpectrumWindowed is PowerSpectrum of the windowed sequence
+// src[t]·win[t] (each product rounded once, as a separate multiply would).
+// It panics if len(src) or len(win) ≠ n.
+func (p *Real) PowerSpectrumWindowed(dst, src, win []float64) []float64 {
+	p.checkSrc(len(src))
+	p.checkSrc(len(win))
+	if p.xw == nil {
+		p.xw = make([]float64, p.t.n)
+	}
+	mulInto(p.xw, src, win)
+	return p.PowerSpectrum(dst, p.xw)
+}
+
+func mulGo(dst, a, b []float64) {
+	a, b = a[:len(dst)], b[:len(dst)]
+	for i := range dst {
+		dst[i] = a[i] * b[i]
+	}
 }

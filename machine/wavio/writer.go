@@ -152,9 +152,7 @@ func encodeSamples(b []byte, src []float64, enc Encoding) []byte {
 	d := b[n:]
 	switch enc {
 	case PCM16:
-		for i, v := range src {
-			le.PutUint16(d[2*i:], uint16(quantize(v, 32768, -32768, 32767)))
-		}
+		encode16(d, src)
 	case PCM24:
 		for i, v := range src {
 			q := uint32(quantize(v, 8388608, -8388608, 8388607))
@@ -216,4 +214,28 @@ func WriteFile(path string, interleaved []float64, rate, channels int, enc Encod
 		}
 	}
 	return nil
+}
+
+// encode16 writes src as 16-bit little-endian samples to d (2·len(src)
+// bytes), with the rounding and clamping of quantize inlined so that the
+// loop has no calls and no bounds checks.
+func encode16(d []byte, src []float64) {
+	const magic = 1 << 52 * 1.5
+	d = d[:2*len(src)]
+	for i, v := range src {
+		x := v * 32768
+		var q int32
+		switch {
+		case x >= 32767:
+			q = 32767
+		case x <= -32768:
+			q = -32768
+		case x != x:
+			q = 0
+		default:
+			q = int32((x + magic) - magic)
+		}
+		e := d[2*i : 2*i+2 : 2*i+2]
+		e[0], e[1] = byte(q), byte(q>>8)
+	}
 }
