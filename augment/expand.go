@@ -121,6 +121,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 		workers = runtime.NumCPU()
 	}
 	envs := map[string]*env{}
+	plans := &Plans{} // resampler plans, shared by every machine of the run
 	var jobs []job
 	for _, r := range inv.Recordings {
 		if !r.Usable() {
@@ -131,7 +132,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 			continue
 		}
 		if envs[m.ID] == nil {
-			e, err := newEnv(p, m, opt)
+			e, err := newEnv(p, m, opt, plans)
 			if err != nil {
 				return nil, err
 			}
@@ -367,16 +368,19 @@ type env struct {
 	mics [][3]float64
 }
 
+// irEntry caches an impulse response. Only the samples are kept: the FFT
+// convolver (kernel spectra and scratch, several times larger) is built per
+// use, so memory does not grow with how many positions a run happens to use.
 type irEntry struct {
-	once   sync.Once
-	reverb room.Reverb
-	rt60   float64
-	err    error
+	once sync.Once
+	ir   []float64
+	rt60 float64
+	err  error
 }
 
-func newEnv(p *machine.Plant, m *machine.Machine, opt Options) (*env, error) {
+func newEnv(p *machine.Plant, m *machine.Machine, opt Options, plans *Plans) (*env, error) {
 	e := &env{p: p, m: m, opt: opt, fs: float64(p.SampleRate), holdOut: HoldOutBands(m),
-		bgFrames: map[string]int64{}, bg: map[string][]float64{}, irs: map[string]*irEntry{}, plans: &Plans{}}
+		bgFrames: map[string]int64{}, bg: map[string][]float64{}, irs: map[string]*irEntry{}, plans: plans}
 	allowed := opt.Backgrounds
 	if allowed == nil {
 		for _, b := range p.Backgrounds {

@@ -80,11 +80,13 @@ type faultDrawn struct {
 func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (machine.Entry, *faultDrawn, error) {
 	r := j.rec
 	plan := j.m.Faults
-	speedRange := []float64{-j.c.BandPercent, j.c.BandPercent}
+	// The speed of a fault file is drawn like the recipe's speed step (its
+	// range and increment), else inside the condition's band in 0.5 % steps.
+	speedRange, inc := []float64{-j.c.BandPercent, j.c.BandPercent}, 0.5
 	if rc := e.p.RecipeFor(j.m, j.c); rc != nil {
 		for _, s := range rc.Steps {
 			if s.Kind == "speed" {
-				speedRange = s.Range
+				speedRange, inc = s.Range, s.Increment
 			}
 		}
 	}
@@ -92,7 +94,7 @@ func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (mach
 	seed := VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "fault:"+kind)
 	rng := NewRand(seed)
 	d := &faultDrawn{rng: rng}
-	d.ratio = clampSpeed(1+uniform(rng, speedRange, 0)/100, j.c, e.holdOut)
+	d.ratio = clampSpeed(1+uniform(rng, speedRange, inc)/100, j.c, e.holdOut)
 	d.sev = uniform(rng, plan.SeverityDB, 0)
 	d.resHz = uniform(rng, plan.ResonanceHz, 0)
 	cue, label, err := e.cue(kind, j, d.ratio, d.sev, d.resHz, rng)

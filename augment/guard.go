@@ -98,7 +98,7 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 			if ir.rt60 < pr.RT60Range[0] || ir.rt60 > pr.RT60Range[1] || math.IsNaN(ir.rt60) {
 				reason = RejectRT60
 			}
-			out = ir.reverb.Apply(ws.spare(cur), cur, e.fs)
+			out = room.NewReverb(ir.ir, e.fs).Apply(ws.spare(cur), cur, e.fs)
 		case "ir":
 			ir := e.fileIR(rec.Text["file"])
 			if ir.err != nil {
@@ -107,7 +107,7 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 				break
 			}
 			rec.Params = map[string]float64{"rt60_s": ir.rt60}
-			out = ir.reverb.Apply(ws.spare(cur), cur, e.fs)
+			out = room.NewReverb(ir.ir, e.fs).Apply(ws.spare(cur), cur, e.fs)
 		case "tempo":
 			out = Tempo{Factor: 1 + rec.Params["percent"]/100}.Apply(ws.spare(cur), cur, e.fs)
 		case "pitch":
@@ -212,7 +212,7 @@ func (e *env) roomIR(i int) *irEntry {
 		if err != nil {
 			ent.rt60 = math.NaN()
 		}
-		ent.reverb = room.NewReverb(h, e.fs)
+		ent.ir = h
 	})
 	return ent
 }
@@ -241,7 +241,7 @@ func (e *env) fileIR(file string) *irEntry {
 		if err != nil {
 			ent.rt60 = math.NaN()
 		}
-		ent.reverb = room.NewReverb(h, e.fs)
+		ent.ir = h
 	})
 	return ent
 }

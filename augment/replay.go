@@ -62,7 +62,7 @@ func Replay(inv *machine.Inventory, opt Options, rel string) (ReplayResult, erro
 	if rec.SHA256 != ent.SourceSHA256 {
 		return ReplayResult{Entry: *ent}, fmt.Errorf("augment: replay: %s: source %s has changed (sha256 %s, ledger %s)", rel, ent.Source, rec.SHA256, ent.SourceSHA256)
 	}
-	e, err := newEnv(p, m, opt)
+	e, err := newEnv(p, m, opt, &Plans{})
 	if err != nil {
 		return ReplayResult{}, err
 	}

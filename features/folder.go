@@ -1,15 +1,17 @@
 package features
 
 import (
-	"bufio"
 	"context"
+	"encoding/binary"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
 	"sort"
 	"strings"
 	"sync"
+	"unsafe"
 
 	"thrum/machine/wavio"
 )
@@ -142,19 +144,39 @@ func readMono(f *wavio.File, dst []float64) ([]float64, error) {
 	return mono, nil
 }
 
-// writeNPYFast writes one .npy file through a reused buffer (temporary name,
-// then rename).
+// littleEndian reports whether float32 values are stored little-endian in
+// memory, the byte order of the .npy files written here.
+var littleEndian = binary.NativeEndian.Uint16([]byte{1, 0}) == 1
+
+// writeNPYFast writes one .npy file (temporary name, then rename) from a
+// reused byte buffer: the header and the little-endian data in one write.
 func writeNPYFast(path string, buf []byte, data []float32, frames, bands int) ([]byte, error) {
+	h, err := npyHeader([]int{frames, bands}, 0)
+	if err != nil {
+		return buf, err
+	}
+	data = data[:frames*bands]
+	need := len(h) + 4*len(data)
+	if cap(buf) < need {
+		buf = make([]byte, need)
+	}
+	buf = buf[:need]
+	copy(buf, h)
+	b := buf[len(h):]
+	b = b[:4*len(data)]
+	if littleEndian && len(data) > 0 {
+		copy(b, unsafe.Slice((*byte)(unsafe.Pointer(&data[0])), 4*len(data)))
+	} else {
+		for i, v := range data {
+			binary.LittleEndian.PutUint32(b[4*i:], math.Float32bits(v))
+		}
+	}
 	tmp := path + ".tmp"
 	f, err := os.Create(tmp)
 	if err != nil {
 		return buf, err
 	}
-	w := bufio.NewWriterSize(f, 256<<10)
-	err = WriteNPY(w, data[:frames*bands], frames, bands)
-	if err == nil {
-		err = w.Flush()
-	}
+	_, err = f.Write(buf)
 	if cerr := f.Close(); err == nil {
 		err = cerr
 	}

@@ -94,9 +94,7 @@ func (l *LogMel) logRow(dst []float32, mel []float64) {
 	dst = dst[:len(mel)]
 	switch l.cfg.Log {
 	case LogNumpy:
-		for b, v := range mel {
-			dst[b] = float32(log10Fast(v + NumpyEpsilon))
-		}
+		log10RowEps(dst, mel, NumpyEpsilon)
 	case LogNone:
 		for b, v := range mel {
 			dst[b] = float32(v * l.ref)

@@ -61,6 +61,14 @@ type Filterbank struct {
 	Edges       []float64
 	Start, Stop []int
 	weights     [][]float64
+	// padded holds every band's weights, each band zero-padded to a
+	// multiple of four, one band after the other; tab holds, per band,
+	// its start bin and number of four-weight chunks. The first nvec bands
+	// (those whose padded span stays inside the spectrum, and nonempty)
+	// run on the vector kernel when there is one.
+	padded []float64
+	tab    []int32
+	nvec   int
 }
 
 // NewFilterbank builds the filterbank of cfg (NFFT, Bands, Scale, Norm,
@@ -115,6 +123,22 @@ func NewFilterbank(cfg Config, fs float64) (*Filterbank, error) {
 		}
 		fb.Start[b], fb.Stop[b], fb.weights[b] = start, stop, w
 	}
+	fb.tab = make([]int32, 2*c.Bands)
+	fit := true
+	for b, w := range fb.weights {
+		chunks := (len(w) + 3) / 4
+		fb.tab[2*b], fb.tab[2*b+1] = int32(fb.Start[b]), int32(chunks)
+		fb.padded = append(fb.padded, w...)
+		for range 4*chunks - len(w) {
+			fb.padded = append(fb.padded, 0)
+		}
+		if fit = fit && fb.Start[b]+4*chunks <= bins; fit {
+			fb.nvec = b + 1
+		}
+	}
+	if len(fb.padded) == 0 {
+		fb.nvec = 0
+	}
 	return fb, nil
 }
 
@@ -144,10 +168,23 @@ func (fb *Filterbank) Apply(dst, spec []float64) []float64 {
 		dst = make([]float64, fb.Bands)
 	}
 	dst = dst[:fb.Bands]
-	for b, w := range fb.weights {
+	first := 0
+	if fb.applyVec(dst, spec) {
+		first = fb.nvec
+	}
+	fb.applyLanes(dst, spec, first)
+	return dst
+}
+
+// applyLanes computes bands first … Bands−1: four accumulators, lane
+// k mod 4 taking weight k, summed as (a0 + a1) + (a2 + a3). The vector
+// kernel adds the same products in the same order (its zero padding adds
+// +0 to a non-negative sum, which changes nothing for a power spectrum).
+func (fb *Filterbank) applyLanes(dst, spec []float64, first int) {
+	for b := first; b < len(fb.weights); b++ {
+		w := fb.weights[b]
 		seg := spec[fb.Start[b] : fb.Start[b]+len(w)]
 		seg = seg[:len(w)]
-		// Four accumulators shorten the add latency chain.
 		var a0, a1, a2, a3 float64
 		k := 0
 		for ; k+3 < len(w); k += 4 {
@@ -156,10 +193,15 @@ func (fb *Filterbank) Apply(dst, spec []float64) []float64 {
 			a2 += w[k+2] * seg[k+2]
 			a3 += w[k+3] * seg[k+3]
 		}
-		for ; k < len(w); k++ {
+		if k < len(w) {
 			a0 += w[k] * seg[k]
+		}
+		if k+1 < len(w) {
+			a1 += w[k+1] * seg[k+1]
+		}
+		if k+2 < len(w) {
+			a2 += w[k+2] * seg[k+2]
 		}
 		dst[b] = (a0 + a1) + (a2 + a3)
 	}
-	return dst
 }

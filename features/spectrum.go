@@ -11,9 +11,15 @@ type powerPlan interface {
 
 // newPowerPlan returns the plan for size n (a power of two, checked by the
 // caller).
-func newPowerPlan(n int) powerPlan { return fftPlan{fft.NewReal(n)} }
+func newPowerPlan(n int) fftPlan { return fftPlan{fft.NewReal(n)} }
 
 // fftPlan uses the fused power-spectrum path of features/fft.
 type fftPlan struct{ r *fft.Real }
 
 func (p fftPlan) power(dst, src []float64) []float64 { return p.r.PowerSpectrum(dst, src) }
+
+// powerWindowed is power of src[t]·win[t], each product rounded as the
+// separate multiply of STFT.window rounds it.
+func (p fftPlan) powerWindowed(dst, src, win []float64) []float64 {
+	return p.r.PowerSpectrumWindowed(dst, src, win)
+}

@@ -30,7 +30,7 @@ type STFT struct {
 	magnitude bool
 	win       []float64
 	frame     []float64
-	plan      powerPlan
+	plan      fftPlan
 }
 
 // NewSTFT builds a plan from the NFFT, Hop, Center, Pad and Magnitude fields
@@ -101,8 +101,12 @@ func (s *STFT) Frame(dst []float64, x []float64, i int) []float64 {
 		dst = make([]float64, s.Bins())
 	}
 	dst = dst[:s.Bins()]
-	s.window(x, i)
-	s.plan.power(dst, s.frame)
+	if start := s.start(i); start >= 0 && start+s.n <= len(x) {
+		s.plan.powerWindowed(dst, x[start:start+s.n], s.win)
+	} else {
+		s.window(x, i)
+		s.plan.power(dst, s.frame)
+	}
 	if s.magnitude {
 		for k, v := range dst {
 			dst[k] = math.Sqrt(v)
@@ -113,10 +117,7 @@ func (s *STFT) Frame(dst []float64, x []float64, i int) []float64 {
 
 // window fills s.frame with the windowed frame i of x.
 func (s *STFT) window(x []float64, i int) {
-	start := i * s.hop
-	if s.center {
-		start -= s.n / 2
-	}
+	start := s.start(i)
 	f, w := s.frame, s.win
 	if start >= 0 && start+s.n <= len(x) {
 		seg := x[start : start+s.n]
@@ -153,4 +154,13 @@ func (s *STFT) sample(x []float64, idx int) float64 {
 		j = p - j
 	}
 	return x[j]
+}
+
+// start returns the index in x of the first sample of frame i.
+func (s *STFT) start(i int) int {
+	start := i * s.hop
+	if s.center {
+		start -= s.n / 2
+	}
+	return start
 }

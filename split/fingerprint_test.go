@@ -2,6 +2,7 @@ package split
 
 import (
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"testing"
 )
@@ -128,4 +129,185 @@ func TestFingerprintShape(t *testing.T) {
 		}
 	}()
 	NewFingerprinter(2000)
+}
+
+// flipBits returns a copy of w with each bit flipped with probability p.
+func flipBits(rng *rand.Rand, w []uint32, p float64) []uint32 {
+	out := make([]uint32, len(w))
+	for i, v := range w {
+		for b := range 32 {
+			if rng.Float64() < p {
+				v ^= 1 << b
+			}
+		}
+		out[i] = v
+	}
+	return out
+}
+
+// verifyRef is the plain statement of verify: the float table of block
+// BERs and the line search with bounds tests.
+func verifyRef(q, d []uint32, off int) (float64, int) {
+	nb := len(q) / ixBlock
+	if nb == 0 {
+		return 1, off
+	}
+	const no = 2*ixDrift + 1
+	table := make([]float64, nb*no)
+	for b := range nb {
+		for j := range no {
+			lo := b*ixBlock + off - ixDrift + j
+			if lo < 0 || lo+ixBlock > len(d) {
+				table[b*no+j] = -1
+				continue
+			}
+			e, _ := ber(q[b*ixBlock:(b+1)*ixBlock], d[lo:lo+ixBlock], 0)
+			table[b*no+j] = e
+		}
+	}
+	mid := float64(len(q)) / 2
+	best, bestOff := 2.0, off
+	for r := -6; r <= 6; r++ {
+		rho := 0.005 * float64(r)
+		for j0 := range no {
+			var sum float64
+			n := 0
+			for b := range nb {
+				j := j0 + int(math.Round(rho*(float64(b*ixBlock+ixBlock/2)-mid)))
+				if j < 0 || j >= no || table[b*no+j] < 0 {
+					continue
+				}
+				sum += table[b*no+j]
+				n++
+			}
+			if 2*n < nb || n == 0 {
+				continue
+			}
+			if e := sum / float64(n); e < best-1e-12 {
+				best, bestOff = e, off-ixDrift+j0
+			}
+		}
+	}
+	if best > 1 {
+		return 1, off
+	}
+	return best, bestOff
+}
+
+// TestVerify checks the packed verifier against verifyRef, and that the
+// half-sample pre-check of verifyBelow never loses a score at or below its
+// limit.
+func TestVerify(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	var vs verifier
+	agree, kept := 0, 0
+	for _, tc := range []struct {
+		name   string
+		n, m   int     // query and indexed lengths, frames
+		p      float64 // bit flip probability of the copy
+		shift  int     // indexed frame = query frame + shift
+		offErr int     // error of the proposed offset
+	}{
+		{"clean", 590, 590, 0, 0, 0},
+		{"flips 0.2", 590, 590, 0.2, 37, 11},
+		{"flips 0.35", 590, 700, 0.35, -80, -19},
+		{"unrelated", 590, 590, 0.5, 0, 0},
+		{"short index", 590, 300, 0.1, 100, 5},
+		{"odd lengths", 333, 1001, 0.3, 421, -3},
+		{"long", 3000, 3000, 0.3, 0, 7},
+	} {
+		src := syntheticPrint(rng, tc.m+max(tc.shift, 0)+tc.n).Words
+		d := src[:tc.m]
+		// q[i] = d[i + shift], bits flipped; past the end of d it is fresh.
+		q := make([]uint32, tc.n)
+		for i := range q {
+			if j := i + tc.shift; j >= 0 && j < len(d) {
+				q[i] = d[j]
+			} else {
+				q[i] = rng.Uint32()
+			}
+		}
+		q = flipBits(rng, q, tc.p)
+		off := tc.shift + tc.offErr
+		want, wantOff := verifyRef(q, d, off)
+		got, gotOff := vs.verify(q, d, off)
+		if math.Abs(got-want) > 1e-12 || gotOff != wantOff {
+			t.Errorf("%s: verify %.6f at %d, reference %.6f at %d", tc.name, got, gotOff, want, wantOff)
+		} else {
+			agree++
+		}
+		for _, limit := range []float64{0.3, DefaultMaxBER} {
+			e, o := vs.verifyBelow(q, d, off, limit)
+			if got <= limit && (e != got || o != gotOff) {
+				t.Errorf("%s: verifyBelow(%.2f) %.4f at %d, verify %.4f at %d", tc.name, limit, e, o, got, gotOff)
+			}
+			if got > limit && e <= limit {
+				t.Errorf("%s: verifyBelow(%.2f) accepts %.4f, verify %.4f", tc.name, limit, e, got)
+			}
+			if e == got {
+				kept++
+			}
+		}
+	}
+	t.Logf("%d cases agree with the reference; %d of 14 pre-checks kept the full score", agree, kept)
+}
+
+// TestBestPair checks the word-skipping scan against the plain one.
+func TestBestPair(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	for _, nb := range []int{2, 7, 8, 9, 16, 75, 200} {
+		for _, need := range []int{1, 4, 9, 200, 255, 256, 300, 510} {
+			for range 200 {
+				row := make([]uint8, nb)
+				for j := range row {
+					switch rng.IntN(4) {
+					case 0:
+						row[j] = uint8(rng.IntN(256))
+					case 1:
+						row[j] = uint8(rng.IntN(6))
+					}
+				}
+				wv, wj := 0, 0
+				for j := range nb - 1 {
+					if v := int(row[j]) + int(row[j+1]); v > wv {
+						wv, wj = v, j
+					}
+				}
+				gv, gj := bestPair(row, need)
+				if (wv >= need || gv >= need) && (gv != wv || gj != wj) {
+					t.Fatalf("nb %d need %d %v: got %d at %d, want %d at %d", nb, need, row, gv, gj, wv, wj)
+				}
+			}
+		}
+	}
+}
+
+// TestChanceThreshold checks the Poisson tail against the closed form
+// P(X ≥ m) = 1 − e^−μ Σ_{i<m} μ^i/i! (the Poisson distribution, common
+// practice) and the threshold's definition.
+func TestChanceThreshold(t *testing.T) {
+	for _, tc := range []struct {
+		mu float64
+		m  int
+	}{{0.68, 4}, {0.68, 8}, {3, 1}, {3, 6}, {20, 30}} {
+		term, cdf := math.Exp(-tc.mu), 0.0
+		for i := range tc.m {
+			cdf += term
+			term *= tc.mu / float64(i+1)
+		}
+		want := 1 - cdf
+		if got := poissonTail(tc.mu, tc.m); math.Abs(got-want) > 1e-9*math.Max(want, 1e-3) {
+			t.Errorf("P(X ≥ %d | μ = %g) = %.6g, want %.6g", tc.m, tc.mu, got, want)
+		}
+	}
+	for _, tc := range []struct {
+		mu    float64
+		cells int
+	}{{0.68, 2250}, {0.68, 637500}, {0, 1000}, {5, 10}} {
+		m := chanceThreshold(tc.mu, tc.cells)
+		if m < ixMinVotes || float64(tc.cells)*poissonTail(tc.mu, m) > ixChance ||
+			(m > ixMinVotes && float64(tc.cells)*poissonTail(tc.mu, m-1) <= ixChance) {
+			t.Errorf("chanceThreshold(%g, %d) = %d", tc.mu, tc.cells, m)
+		}
+	}
 }

@@ -23,7 +23,7 @@ const (
 	// window a frame or two off matches too.
 	ixStride = 4
 	// ixBin is the width, in frames, of the offset histogram bins.
-	ixBin = 32
+	ixBin = 16
 	// ixMinVotes is the vote count (in two neighbouring bins) that makes a
 	// candidate worth verifying.
 	ixMinVotes = 4
@@ -46,6 +46,9 @@ const (
 	// no information, and its entries would dominate the query cost.
 	ixFullMean = 8
 	ixFullMin  = 64
+	// ixPreMargin is how far above MaxBER the half-sample estimate of a
+	// candidate may come and still be verified in full (see verifyBelow).
+	ixPreMargin = 0.05
 	// ixQueryStride: the query probes every ixQueryStride-th frame.
 	ixQueryStride = 2
 	// DefaultMaxBER is the verified bit error rate at or below which two
@@ -64,9 +67,7 @@ type cand struct {
 
 // verifier holds the scratch space of verify.
 type verifier struct {
-	table []float64
-	val   []float64 // table padded for the line search, 0 where invalid
-	ok    []int32   // 1 where val holds a block's BER
+	table []int64
 	shift []int
 	q64   []uint64    // query words in pairs
 	d64   [2][]uint64 // indexed words in pairs from an even and an odd start
@@ -95,12 +96,16 @@ type Index struct {
 	ids    []string
 	prints [][]uint32
 	// pat[t] lists the (frame offset, bit) pairs table t samples.
-	pat    [ixTables][ixKeyBits]struct{ dt, bit uint8 }
-	start  [ixTables][]uint32 // bucket directory: 2^ixKeyBits + 1 offsets
-	ent    [ixTables][]uint64 // print<<24 | frame, grouped by key
-	built  int                // number of prints in the tables
-	maxLen int                // longest indexed print, frames
-	full   int                // bucket size above which queries skip a key
+	pat   [ixTables][ixKeyBits]struct{ dt, bit uint8 }
+	start [ixTables][]uint32 // bucket directory: 2^ixKeyBits + 1 offsets
+	// Entries print<<fb | frame/ixStride, grouped by key: 4 bytes each
+	// when that fits in 32 bits (ent32), else 8 (ent64).
+	ent32  [ixTables][]uint32
+	ent64  [ixTables][]uint64
+	fb     uint
+	built  int // number of prints in the tables
+	maxLen int // longest indexed print, frames
+	full   int // bucket size above which queries skip a key
 	def    *Searcher
 }
 
@@ -153,7 +158,7 @@ func (ix *Index) Bytes() int {
 		n += 4 * len(w)
 	}
 	for t := range ixTables {
-		n += 8*len(ix.ent[t]) + 4*len(ix.start[t])
+		n += 4*len(ix.ent32[t]) + 8*len(ix.ent64[t]) + 4*len(ix.start[t])
 	}
 	return n
 }
@@ -171,8 +176,9 @@ func (ix *Index) Add(id string, p Print) {
 
 func (ix *Index) key(t int, w []uint32, f int) uint32 {
 	var k uint32
-	for i, pb := range ix.pat[t] {
-		k |= (w[f+int(pb.dt)] >> pb.bit & 1) << i
+	win := w[f : f+ixSpan]
+	for i, pb := range &ix.pat[t] {
+		k |= (win[pb.dt%ixSpan] >> (pb.bit % 32) & 1) << i
 	}
 	return k
 }
@@ -191,6 +197,8 @@ func (ix *Index) build() {
 		}
 	}
 	keys := make([]uint16, n)
+	ix.fb = uint(bits.Len(uint(max(ix.maxLen-ixSpan, 0) / ixStride)))
+	wide := bits.Len(uint(len(ix.prints)))+int(ix.fb) > 32
 	for t := range ixTables {
 		cnt := make([]uint32, nk+1)
 		i := 0
@@ -205,20 +213,14 @@ func (ix *Index) build() {
 		for k := 1; k <= nk; k++ {
 			cnt[k] += cnt[k-1]
 		}
-		ent := make([]uint64, n)
-		pos := make([]uint32, nk)
-		copy(pos, cnt[:nk])
-		i = 0
-		for pi, w := range ix.prints {
-			for f := 0; f+ixSpan <= len(w); f += ixStride {
-				k := keys[i]
-				ent[pos[k]] = uint64(pi)<<24 | uint64(f)
-				pos[k]++
-				i++
-			}
-		}
 		ix.start[t] = cnt
-		ix.ent[t] = ent
+		if wide {
+			ix.ent64[t] = fillEntries(ix.ent64[t], ix.prints, keys, cnt, ix.fb)
+			ix.ent32[t] = nil
+		} else {
+			ix.ent32[t] = fillEntries(ix.ent32[t], ix.prints, keys, cnt, ix.fb)
+			ix.ent64[t] = nil
+		}
 	}
 	ix.full = ixFullMean*n/nk + ixFullMin
 	ix.built = len(ix.ids)
@@ -250,57 +252,42 @@ func (s *Searcher) Query(p Print) []Match {
 	votes := s.votes
 	hits := 0
 	for t := range ixTables {
-		st, ent := ix.start[t], ix.ent[t]
-		for f := 0; f+ixSpan <= len(w); f += ixQueryStride {
-			k := ix.key(t, w, f)
-			bucket := ent[st[k]:st[k+1]]
-			if len(bucket) > ix.full {
-				continue // a key shared by too many windows says nothing
-			}
-			hits += len(bucket)
-			base := len(w) - f
-			for _, e := range bucket {
-				c := int(e>>24)*nb + (int(e&(1<<24-1))+base)/ixBin
-				if v := votes[c]; v < 255 {
-					votes[c] = v + 1
-				}
-			}
+		if ix.ent64[t] != nil {
+			hits += vote(votes, ix, t, w, ix.ent64[t], nb)
+		} else {
+			hits += vote(votes, ix, t, w, ix.ent32[t], nb)
 		}
 	}
 	// Votes a candidate needs: at least ixMinVotes, and more than chance
 	// would give any of the cells if the hits fell at random.
 	need := chanceThreshold(2*float64(hits)/float64(nb*np), nb*np)
-	// Best bin pair per print. A pair reaching need has a bin of at least
-	// h = ⌈need/2⌉, so 8-bin words with no such bin are skipped (SWAR: a
-	// byte v ≥ h sets its top bit in v + 128 − h, or has it set already).
-	h := (need + 1) / 2
-	const ones, tops = 0x0101010101010101, 0x8080808080808080
-	add := ones * uint64(128-min(h, 127))
+	// Best bin pair per print.
 	cands := s.cands[:0]
 	for pi := range np {
-		row := votes[pi*nb : (pi+1)*nb]
-		bv, bj := 0, 0
-		pair := func(lo, hi int) {
-			for j := max(lo, 0); j < min(hi, nb-1); j++ {
-				if v := int(row[j]) + int(row[j+1]); v > bv {
-					bv, bj = v, j
-				}
-			}
-		}
-		i := 0
-		if h <= 127 {
-			for ; i+8 <= nb; i += 8 {
-				if x := binary.LittleEndian.Uint64(row[i:]); (x+add|x)&tops != 0 {
-					pair(i-1, i+8)
-				}
-			}
-		}
-		pair(i-1, nb)
-		if bv >= need {
+		if bv, bj := bestPair(votes[pi*nb:(pi+1)*nb], need); bv >= need {
 			cands = append(cands, cand{pi, bj*ixBin - len(w) + ixBin, bv})
 		}
 	}
 	clear(votes)
+	// Only the ixMaxVerify with most votes are verified: drop those below
+	// the ixMaxVerify-th count before sorting.
+	if len(cands) > ixMaxVerify {
+		var hist [2*255 + 1]int
+		for _, c := range cands {
+			hist[c.votes]++
+		}
+		cut, k := len(hist)-1, 0
+		for ; cut > 0 && k+hist[cut] < ixMaxVerify; cut-- {
+			k += hist[cut]
+		}
+		kept := cands[:0]
+		for _, c := range cands {
+			if c.votes >= cut {
+				kept = append(kept, c)
+			}
+		}
+		cands = kept
+	}
 	slices.SortFunc(cands, func(a, b cand) int {
 		if a.votes != b.votes {
 			return b.votes - a.votes
@@ -317,7 +304,7 @@ func (s *Searcher) Query(p Print) []Match {
 	}
 	var out []Match
 	for _, c := range cands {
-		e, off := s.vs.verify(w, ix.prints[c.pi], c.off)
+		e, off := s.vs.verifyBelow(w, ix.prints[c.pi], c.off, maxBER)
 		if e <= maxBER {
 			out = append(out, Match{ID: ix.ids[c.pi], Offset: off, BER: e, Votes: c.votes})
 		}
@@ -329,6 +316,87 @@ func (s *Searcher) Query(p Print) []Match {
 		return out[i].ID < out[j].ID
 	})
 	return out
+}
+
+// bestPair returns the largest sum of two neighbouring counters,
+// row[j] + row[j+1], and the first j that has it, when that sum is at least
+// need; otherwise a smaller sum. A pair reaching need has a counter of at
+// least h = ⌈need/2⌉, so 8-counter words with none are skipped (SWAR: a
+// byte v ≥ h sets its top bit in v + 128 − h or has it set already; a
+// carry out of a byte can only add false positives).
+func bestPair(row []uint8, need int) (bv, bj int) {
+	nb := len(row)
+	h := (need + 1) / 2
+	const ones, tops = 0x0101010101010101, 0x8080808080808080
+	add := ones * uint64(128-min(max(h, 1), 127))
+	i := 0
+	if h <= 127 {
+		for ; i+8 <= nb; i += 8 {
+			if x := binary.LittleEndian.Uint64(row[i:]); (x+add|x)&tops != 0 {
+				for j := max(i-1, 0); j < min(i+8, nb-1); j++ {
+					if v := int(row[j]) + int(row[j+1]); v > bv {
+						bv, bj = v, j
+					}
+				}
+			}
+		}
+	}
+	for j := max(i-1, 0); j < nb-1; j++ {
+		if v := int(row[j]) + int(row[j+1]); v > bv {
+			bv, bj = v, j
+		}
+	}
+	return bv, bj
+}
+
+// fillEntries lays out one table's entries, print<<fb | frame/ixStride,
+// grouped by key: keys holds every stored window's key in print and frame
+// order, start the bucket directory.
+func fillEntries[E uint32 | uint64](dst []E, prints [][]uint32, keys []uint16, start []uint32, fb uint) []E {
+	const nk = 1 << ixKeyBits
+	n := int(start[nk])
+	if cap(dst) < n {
+		dst = make([]E, n)
+	}
+	dst = dst[:n]
+	pos := make([]uint32, nk)
+	copy(pos, start[:nk])
+	i := 0
+	for pi, w := range prints {
+		for f := 0; f+ixSpan <= len(w); f += ixStride {
+			k := keys[i]
+			dst[pos[k]] = E(pi)<<fb | E(f/ixStride)
+			pos[k]++
+			i++
+		}
+	}
+	return dst
+}
+
+// vote adds the hits of query w in table t to the counters (rows of nb
+// offset bins per print; offset + len(w) = indexed frame − query frame +
+// len(w) ≥ 0) and returns the number of hits. Over-full buckets are skipped.
+func vote[E uint32 | uint64](votes []uint8, ix *Index, t int, w []uint32, ent []E, nb int) int {
+	st := ix.start[t]
+	fb := ix.fb
+	fm := E(1)<<fb - 1
+	hits := 0
+	for f := 0; f+ixSpan <= len(w); f += ixQueryStride {
+		k := ix.key(t, w, f)
+		bucket := ent[st[k]:st[k+1]]
+		if len(bucket) > ix.full {
+			continue // a key shared by too many windows says nothing
+		}
+		hits += len(bucket)
+		base := uint(len(w) - f)
+		for _, e := range bucket {
+			c := uint(e>>fb)*uint(nb) + (uint(e&fm)*ixStride+base)/ixBin
+			if v := votes[c]; v < 255 {
+				votes[c] = v + 1
+			}
+		}
+	}
+	return hits
 }
 
 // chanceThreshold returns the smallest vote count m ≥ ixMinVotes for which
@@ -376,85 +444,95 @@ func poissonTail(mu float64, m int) float64 {
 // indexed print for are skipped; a line needs half the blocks. With none it
 // returns 1.
 func (vs *verifier) verify(q, d []uint32, off int) (float64, int) {
+	return vs.score(q, d, off, 1)
+}
+
+// verifyBelow is verify for a caller that only needs scores at or below
+// limit. It first scores the candidate on every second pair of frames
+// (half the bit comparisons) and returns 1 when that estimate exceeds
+// limit + ixPreMargin; otherwise it returns verify's result. The estimate
+// of the best line is at most the half-sample mean of verify's best line,
+// which differs from that line's mean by far less than the margin, since
+// the bit errors of neighbouring frames are close.
+func (vs *verifier) verifyBelow(q, d []uint32, off int, limit float64) (float64, int) {
+	if e, _ := vs.score(q, d, off, 2); e > limit+ixPreMargin {
+		return 1, off
+	}
+	return vs.score(q, d, off, 1)
+}
+
+// score is verify comparing every step-th pair of frames of each block.
+func (vs *verifier) score(q, d []uint32, off, step int) (float64, int) {
 	nb := len(q) / ixBlock
 	if nb == 0 {
 		return 1, off
 	}
 	const no = 2*ixDrift + 1
-	if cap(vs.table) < nb*no {
-		vs.table = make([]float64, nb*no)
+	mid := float64(len(q)) / 2
+	// The table has pad unused columns either side, wide enough for the
+	// largest shift of a line, so the line search needs no bounds tests. A
+	// cell holds 1<<32 + the count of differing bits when the block fits
+	// in d, else 0: summing cells along a line gives the number of blocks
+	// in the high half and their differing bits in the low half.
+	pad := int(math.Ceil(0.03*mid)) + 1
+	wd := no + 2*pad
+	if cap(vs.table) < nb*wd {
+		vs.table = make([]int64, nb*wd)
+	}
+	if cap(vs.shift) < nb {
 		vs.shift = make([]int, nb)
 	}
-	table := vs.table[:nb*no]
+	table := vs.table[:nb*wd]
 	shift := vs.shift[:nb]
+	clear(table)
 	// Words in pairs, so that one 64-bit popcount compares two frames; d
 	// is paired from both parities, as a block may start at any frame.
 	vs.q64 = pairWords(vs.q64, q[:nb*ixBlock])
 	vs.d64[0] = pairWords(vs.d64[0], d)
 	vs.d64[1] = pairWords(vs.d64[1], d[min(1, len(d)):])
 	for b := range nb {
-		row := table[b*no : (b+1)*no]
+		row := table[b*wd+pad : b*wd+pad+no]
 		blk := vs.q64[b*ixBlock/2 : (b+1)*ixBlock/2]
-		for j := range no {
+		for j := range row {
 			lo := b*ixBlock + off - ixDrift + j
 			if lo < 0 || lo+ixBlock > len(d) {
-				row[j] = -1
 				continue
 			}
 			dd := vs.d64[lo&1][lo>>1:]
 			dd = dd[:len(blk)]
 			diff := 0
-			for i, v := range blk {
-				diff += bits.OnesCount64(v ^ dd[i])
+			for i := 0; i < len(blk); i += step {
+				diff += bits.OnesCount64(blk[i] ^ dd[i])
 			}
-			row[j] = float64(diff) / (32 * ixBlock)
+			row[j] = 1<<32 | int64(diff)
 		}
 	}
-	mid := float64(len(q)) / 2
-	// The table again with pad invalid columns either side, wide enough for
-	// the largest shift, so the line search needs no bounds tests (an
-	// invalid cell adds 0 to the sum and 0 to the count).
-	pad := int(math.Ceil(0.03*mid)) + 1
-	wd := no + 2*pad
-	if cap(vs.val) < nb*wd {
-		vs.val = make([]float64, nb*wd)
-		vs.ok = make([]int32, nb*wd)
-	}
-	val, ok := vs.val[:nb*wd], vs.ok[:nb*wd]
-	clear(val)
-	clear(ok)
-	for b := range nb {
-		for j, e := range table[b*no : (b+1)*no] {
-			if e >= 0 {
-				val[b*wd+pad+j], ok[b*wd+pad+j] = e, 1
-			}
-		}
-	}
-	best, bestOff := 2.0, off
+	var bestDiff, bestN int64 = 1, 0 // best mean so far, as a fraction
+	bestOff := off
 	for r := -6; r <= 6; r++ {
 		rho := 0.005 * float64(r)
 		for b := range shift {
 			shift[b] = b*wd + pad + int(math.Round(rho*(float64(b*ixBlock+ixBlock/2)-mid)))
 		}
 		for j0 := range no {
-			var sum float64
-			var n int32
+			var sum int64
 			for _, sb := range shift {
-				sum += val[sb+j0]
-				n += ok[sb+j0]
+				sum += table[sb+j0]
 			}
-			if 2*int(n) < nb || n == 0 {
+			n, diff := sum>>32, sum&(1<<32-1)
+			if 2*n < int64(nb) || n == 0 {
 				continue
 			}
-			if e := sum / float64(n); e < best {
-				best, bestOff = e, off-ixDrift+j0
+			if bestN == 0 || diff*bestN < bestDiff*n {
+				bestDiff, bestN, bestOff = diff, n, off-ixDrift+j0
 			}
 		}
 	}
-	if best > 1 {
+	if bestN == 0 {
 		return 1, off
 	}
-	return best, bestOff
+	bitsPerBlock := int64(64 * ((ixBlock/2 + step - 1) / step))
+	return float64(bestDiff) / float64(bitsPerBlock*bestN), bestOff
 }
 
 // pairWords packs w[2i] and w[2i+1] into the low and high halves of dst[i]

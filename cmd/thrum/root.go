@@ -48,6 +48,9 @@ splits with an audit, features ready for training, and a ledger of everything do
 	var profile string
 	root.PersistentFlags().StringVar(&profile, "cpu-profile", "", "write a CPU profile to this file (for development)")
 	root.PersistentFlags().MarkHidden("cpu-profile")
+	var memProfile string
+	root.PersistentFlags().StringVar(&memProfile, "mem-profile", "", "write a heap profile to this file at the end (for development)")
+	root.PersistentFlags().MarkHidden("mem-profile")
 	var stopProfile func()
 	root.PersistentPreRunE = func(cmd *cobra.Command, args []string) error {
 		if profile == "" {
@@ -66,6 +69,12 @@ splits with an audit, features ready for training, and a ledger of everything do
 	root.PersistentPostRun = func(cmd *cobra.Command, args []string) {
 		if stopProfile != nil {
 			stopProfile()
+		}
+		if memProfile != "" {
+			if f, err := os.Create(memProfile); err == nil {
+				pprof.Lookup("allocs").WriteTo(f, 0)
+				f.Close()
+			}
 		}
 	}
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err} })

@@ -305,6 +305,7 @@ func TestAllocs(t *testing.T) {
 		{"Real.Inverse", func() { p.Inverse(y, X) }},
 		{"Real.PowerSpectrum", func() { p.PowerSpectrum(ps, x) }},
 		{"Real.PowerSpectrum32", func() { p.PowerSpectrum32(ps, x32) }},
+		{"Real.PowerSpectrumWindowed", func() { p.PowerSpectrumWindowed(ps, x, x) }},
 		{"Complex.Forward", func() { q.Forward(d, c) }},
 		{"Complex.Inverse", func() { q.Inverse(d, c) }},
 		{"Convolver.Apply", func() { conv.Apply(out, long) }},

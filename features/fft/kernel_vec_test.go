@@ -107,3 +107,27 @@ func TestPostPowerVecBitIdentical(t *testing.T) {
 		}
 	}
 }
+
+// TestPowerSpectrumWindowed checks that the fused window gives exactly the
+// bits of multiplying first and calling PowerSpectrum, for lengths with and
+// without a vector tail.
+func TestPowerSpectrumWindowed(t *testing.T) {
+	rng := rand.New(rand.NewPCG(10, 1))
+	for _, n := range []int{2, 4, 8, 16, 1024, 4096} {
+		p := NewReal(n)
+		x := make([]float64, n)
+		w := make([]float64, n)
+		xw := make([]float64, n)
+		for i := range x {
+			x[i], w[i] = rng.NormFloat64(), rng.Float64()
+			xw[i] = x[i] * w[i]
+		}
+		want := p.PowerSpectrum(nil, xw)
+		got := p.PowerSpectrumWindowed(nil, x, w)
+		for k := range want {
+			if got[k] != want[k] {
+				t.Fatalf("n=%d: bin %d = %v, want %v", n, k, got[k], want[k])
+			}
+		}
+	}
+}

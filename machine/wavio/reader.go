@@ -485,11 +485,22 @@ func decode[T float32 | float64](dst []T, src []byte, k sampleKind, mask uint32)
 			dst[i] = T(int32(u&m)-128) * (1.0 / 128)
 		}
 	case kindS16:
-		m := uint16(mask)
+		m := uint64(uint16(mask)) * 0x0001_0001_0001_0001
 		src = src[:2*len(dst)]
-		for i := range dst {
-			b := src[2*i : 2*i+2 : 2*i+2]
-			dst[i] = T(int16((uint16(b[0])|uint16(b[1])<<8)&m)) * (1.0 / 32768)
+		// Four samples per 64-bit load; int16 → T and the power-of-two
+		// scale are exact, so the order does not matter.
+		i := 0
+		for ; i+3 < len(dst); i += 4 {
+			u := le.Uint64(src[2*i:]) & m
+			d := dst[i : i+4 : i+4]
+			d[0] = T(float64(int16(u))) * (1.0 / 32768)
+			d[1] = T(float64(int16(u>>16))) * (1.0 / 32768)
+			d[2] = T(float64(int16(u>>32))) * (1.0 / 32768)
+			d[3] = T(float64(int16(u>>48))) * (1.0 / 32768)
+		}
+		for ; i < len(dst); i++ {
+			u := uint64(le.Uint16(src[2*i:])) & m
+			dst[i] = T(float64(int16(u))) * (1.0 / 32768)
 		}
 	case kindS24:
 		src = src[:3*len(dst)]
