@@ -581,6 +581,17 @@ func readNPY32(path string, cols int) ([]float32, error) {
 	return out, nil
 }
 
+// faultRank orders fault files for the envelope picture: bearing defects,
+// whose lines the envelope spectrum is made to show, before other kinds.
+func faultRank(p string) int {
+	for i, k := range []string{"-outer-race-", "-inner-race-", "-ball-", "-cage-", "-gear-tooth-", "-impact-"} {
+		if strings.Contains(path.Base(p), k) {
+			return i
+		}
+	}
+	return 9
+}
+
 // pictures draws, for one machine, a recorded clip next to one of its
 // augmented variants, and the envelope spectrum of a fault cue with its
 // defect lines marked.
@@ -603,7 +614,7 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 			if aug < 0 && in.Origin == machine.OriginAugmented && in.Source == inputs[rec].Source && in.Clip == inputs[rec].Clip {
 				aug = i
 			}
-			if flt < 0 && in.Origin == machine.OriginSyntheticFault {
+			if in.Origin == machine.OriginSyntheticFault && (flt < 0 || faultRank(in.Path) < faultRank(inputs[flt].Path)) {
 				flt = i
 			}
 		}
