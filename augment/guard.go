@@ -94,6 +94,7 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 			mic := e.mics[int(rec.Params["mic"])]
 			rec.Params["mic_x"], rec.Params["mic_y"], rec.Params["mic_z"] = mic[0], mic[1], mic[2]
 			rec.Params["rt60_s"] = ir.rt60
+			rec.Params["distance_m"] = ir.distance
 			pr := e.p.Room(e.m.Room)
 			if ir.rt60 < pr.RT60Range[0] || ir.rt60 > pr.RT60Range[1] || math.IsNaN(ir.rt60) {
 				reason = RejectRT60
@@ -212,7 +213,18 @@ func (e *env) roomIR(i int) *irEntry {
 		if err != nil {
 			ent.rt60 = math.NaN()
 		}
+		// The recording is the machine's sound as heard near it: scale the
+		// response so its direct path has unit gain (×4πd), and the step
+		// adds the room's reflections at the drawn position instead of
+		// turning the level down by the free-field 1/(4πd).
+		mic := e.mics[i]
+		d := math.Sqrt((src[0]-mic[0])*(src[0]-mic[0]) + (src[1]-mic[1])*(src[1]-mic[1]) + (src[2]-mic[2])*(src[2]-mic[2]))
+		scale := 4 * math.Pi * math.Max(d, room.MinDistance)
+		for k := range h {
+			h[k] *= scale
+		}
 		ent.ir = h
+		ent.distance = d
 	})
 	return ent
 }
