@@ -35,3 +35,30 @@ func dot4sLanes(h, x *float64, xstride, n int, out *[4]float64) {
 	}
 	dot4Lanes(&hp, &ws, n, out)
 }
+
+// dot4s32Lanes is the portable form of dot4s32: float32 products and sums,
+// each rounded on its own (the explicit conversions forbid fusing them),
+// two blocks of eight lanes per output, reduced 8 → 4 → 2 → 1 by adding
+// the upper half to the lower, exactly as the AVX kernel does.
+func dot4s32Lanes(h, x *float32, xstride, n int, out *[4]float64) {
+	hs := unsafe.Slice(h, n)
+	xp := unsafe.Slice(x, 3*xstride+n)
+	for k := 0; k < 4; k++ {
+		xs := xp[k*xstride : k*xstride+n]
+		var l [16]float32
+		for i := 0; i+16 <= n; i += 16 {
+			hh := hs[i : i+16 : i+16]
+			xx := xs[i : i+16 : i+16]
+			for j := range l {
+				l[j] += float32(hh[j] * xx[j])
+			}
+		}
+		var y [8]float32
+		for j := range y {
+			y[j] = l[j] + l[j+8]
+		}
+		z0, z1, z2, z3 := y[0]+y[4], y[1]+y[5], y[2]+y[6], y[3]+y[7]
+		w0, w1 := z0+z2, z1+z3
+		out[k] = float64(w0 + w1)
+	}
+}

@@ -9,6 +9,9 @@ func dot4FMA(h, x *[4]*float64, n int, out *[4]float64)
 func dot4sFMA(h, x *float64, xstride, n int, out *[4]float64)
 
 //go:noescape
+func dot4s32AVX(h, x *float32, xstride, n int, out *[4]float64)
+
+//go:noescape
 func dot4pFMA(h, x *[4]*float64, n int, out *[4]float64)
 
 func cpuid(eax, ecx uint32) (a, b, c, d uint32)
@@ -63,4 +66,15 @@ func dot4p(h, x *[4]*float64, n int, out *[4]float64) {
 		return
 	}
 	dot4Lanes(h, x, n, out)
+}
+
+// dot4s32 sets out[k] = Σ_{i<n} h[i]·x[k·xstride+i] for k = 0..3 in
+// float32 arithmetic; n is a multiple of 16. It needs AVX only, and the
+// portable version rounds identically.
+func dot4s32(h, x *float32, xstride, n int, out *[4]float64) {
+	if haveFMA {
+		dot4s32AVX(h, x, xstride, n, out)
+		return
+	}
+	dot4s32Lanes(h, x, xstride, n, out)
 }

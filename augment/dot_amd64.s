@@ -221,3 +221,92 @@ TEXT ·xgetbv0(SB), NOSPLIT, $0-4
 	BYTE $0x0f; BYTE $0x01; BYTE $0xd0 // XGETBV
 	MOVL AX, ret+0(FP)
 	RET
+
+// func dot4s32AVX(h, x *float32, xstride, n int, out *[4]float64)
+// out[k] = Σ_{i<n} h[i]·x[k·xstride+i] in float32 for k = 0..3; n is a
+// multiple of 16. Products and sums are rounded separately (no fused
+// multiply-add), each output keeps two 8-lane accumulators (even and odd
+// blocks of 8), and the reduction order is that of dot4s32Lanes in dot.go.
+TEXT ·dot4s32AVX(SB), NOSPLIT, $0-40
+	MOVQ h+0(FP), R8
+	MOVQ x+8(FP), R12
+	MOVQ xstride+16(FP), BX
+	SHLQ $2, BX
+	LEAQ 0(R12)(BX*1), R13
+	LEAQ 0(R13)(BX*1), SI
+	LEAQ 0(SI)(BX*1), DI
+	MOVQ n+24(FP), CX
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	VXORPS Y4, Y4, Y4
+	VXORPS Y5, Y5, Y5
+	VXORPS Y6, Y6, Y6
+	VXORPS Y7, Y7, Y7
+	XORQ AX, AX
+
+floop:
+	CMPQ AX, CX
+	JGE  freduce
+	VMOVUPS 0(R8)(AX*4), Y8
+	VMOVUPS 32(R8)(AX*4), Y9
+	VMULPS 0(R12)(AX*4), Y8, Y10
+	VMULPS 32(R12)(AX*4), Y9, Y11
+	VMULPS 0(R13)(AX*4), Y8, Y12
+	VMULPS 32(R13)(AX*4), Y9, Y13
+	VADDPS Y10, Y0, Y0
+	VADDPS Y11, Y1, Y1
+	VADDPS Y12, Y2, Y2
+	VADDPS Y13, Y3, Y3
+	VMULPS 0(SI)(AX*4), Y8, Y10
+	VMULPS 32(SI)(AX*4), Y9, Y11
+	VMULPS 0(DI)(AX*4), Y8, Y12
+	VMULPS 32(DI)(AX*4), Y9, Y13
+	VADDPS Y10, Y4, Y4
+	VADDPS Y11, Y5, Y5
+	VADDPS Y12, Y6, Y6
+	VADDPS Y13, Y7, Y7
+	ADDQ $16, AX
+	JMP  floop
+
+freduce:
+	MOVQ out+32(FP), DX
+	VADDPS Y1, Y0, Y0
+	VADDPS Y3, Y2, Y2
+	VADDPS Y5, Y4, Y4
+	VADDPS Y7, Y6, Y6
+	VEXTRACTF128 $1, Y0, X1
+	VEXTRACTF128 $1, Y2, X3
+	VEXTRACTF128 $1, Y4, X5
+	VEXTRACTF128 $1, Y6, X7
+	VADDPS X1, X0, X0
+	VADDPS X3, X2, X2
+	VADDPS X5, X4, X4
+	VADDPS X7, X6, X6
+	VMOVHLPS X0, X0, X1
+	VMOVHLPS X2, X2, X3
+	VMOVHLPS X4, X4, X5
+	VMOVHLPS X6, X6, X7
+	VADDPS X1, X0, X0
+	VADDPS X3, X2, X2
+	VADDPS X5, X4, X4
+	VADDPS X7, X6, X6
+	VMOVSHDUP X0, X1
+	VMOVSHDUP X2, X3
+	VMOVSHDUP X4, X5
+	VMOVSHDUP X6, X7
+	VADDSS X1, X0, X0
+	VADDSS X3, X2, X2
+	VADDSS X5, X4, X4
+	VADDSS X7, X6, X6
+	VCVTSS2SD X0, X0, X0
+	VCVTSS2SD X2, X2, X2
+	VCVTSS2SD X4, X4, X4
+	VCVTSS2SD X6, X6, X6
+	VMOVSD X0, 0(DX)
+	VMOVSD X2, 8(DX)
+	VMOVSD X4, 16(DX)
+	VMOVSD X6, 24(DX)
+	VZEROUPPER
+	RET

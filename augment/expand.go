@@ -372,10 +372,11 @@ type env struct {
 // convolver (kernel spectra and scratch, several times larger) is built per
 // use, so memory does not grow with how many positions a run happens to use.
 type irEntry struct {
-	once sync.Once
-	ir   []float64
-	rt60 float64
-	err  error
+	once     sync.Once
+	ir       []float64
+	distance float64
+	rt60     float64
+	err      error
 }
 
 func newEnv(p *machine.Plant, m *machine.Machine, opt Options, plans *Plans) (*env, error) {
