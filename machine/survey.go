@@ -126,14 +126,14 @@ func dbfs(x *float64) string {
 
 // WriteText renders the survey as a table followed by the problems.
 func (s *Survey) WriteText(w io.Writer) error {
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "machine\tcondition\trec\tanom\tclips\tminutes\trate Hz\tch\tRMS dBFS\tpeak dBFS\tclipped %\tDC\tproblems\t")
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "machine\tcondition\trec\tanom\tclips\tminutes\trate Hz\tch\tRMS dBFS\tpeak dBFS\tclipped %\tDC\tproblems")
 	for _, r := range s.Rows {
 		name := r.Condition
 		if r.HoldOut {
 			name += " (hold-out)"
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%.1f\t%s\t%s\t%s\t%s\t%.3f\t%+.4f\t%d\t\n",
+		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%.1f\t%s\t%s\t%s\t%s\t%.3f\t%+.4f\t%d\n",
 			r.Machine, name, r.Recordings, r.Anomalous, r.Clips, r.Seconds/60, ints(r.SampleRates), ints(r.Channels),
 			dbfs(r.RMSDBFS), dbfs(r.PeakDBFS), 100*r.Clipped, r.DC, r.Problems)
 	}
