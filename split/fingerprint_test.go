@@ -311,3 +311,66 @@ func TestChanceThreshold(t *testing.T) {
 		}
 	}
 }
+
+// TestIndexEntryWidths checks that the 8-byte entry layout, used when print
+// number and frame do not fit in 32 bits, answers exactly as the 4-byte one.
+func TestIndexEntryWidths(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 10))
+	narrow, wide := NewIndex(), NewIndex()
+	wide.wide = true
+	var prints []Print
+	for i := range 40 {
+		p := syntheticPrint(rng, 200+rng.IntN(800))
+		prints = append(prints, p)
+		narrow.Add(fmt.Sprint(i), p)
+		wide.Add(fmt.Sprint(i), p)
+	}
+	found := 0
+	for i, p := range prints[:20] {
+		q := Print{Words: flipBits(rng, p.Words[10:], 0.15), Hop: p.Hop}
+		a, b := narrow.Query(q), wide.Query(q)
+		if fmt.Sprint(a) != fmt.Sprint(b) {
+			t.Errorf("query %d: 4-byte entries %v, 8-byte %v", i, a, b)
+		}
+		if len(a) > 0 && a[0].ID == fmt.Sprint(i) && a[0].Offset == 10 {
+			found++
+		}
+	}
+	if len(wide.ent64[0]) == 0 || len(wide.ent32[0]) != 0 || len(narrow.ent32[0]) == 0 {
+		t.Fatal("entry layouts not as requested")
+	}
+	if found < 19 {
+		t.Errorf("found %d of 20 copies at 0.15 bit flips, offset 10", found)
+	}
+}
+
+// TestOverfullBuckets: a key that most stored windows share (here 300
+// prints of one constant word, as a stretch of silence would give) is
+// skipped by queries, and the other prints are still found.
+func TestOverfullBuckets(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	ix := NewIndex()
+	flat := Print{Words: make([]uint32, 590), Hop: 0.016}
+	for i := range 300 {
+		ix.Add(fmt.Sprint("flat", i), flat)
+	}
+	var prints []Print
+	for i := range 10 {
+		p := syntheticPrint(rng, 590)
+		prints = append(prints, p)
+		ix.Add(fmt.Sprint(i), p)
+	}
+	if ms := ix.Query(flat); len(ms) != 0 {
+		t.Errorf("constant print: %d matches through an over-full bucket", len(ms))
+	}
+	k := ix.key(0, flat.Words, 0)
+	if n := int(ix.start[0][k+1] - ix.start[0][k]); n <= ix.full {
+		t.Errorf("bucket of the constant key holds %d entries, limit %d", n, ix.full)
+	}
+	for i, p := range prints {
+		ms := ix.Query(Print{Words: flipBits(rng, p.Words, 0.1), Hop: p.Hop})
+		if len(ms) != 1 || ms[0].ID != fmt.Sprint(i) {
+			t.Errorf("print %d: matches %v", i, ms)
+		}
+	}
+}

@@ -24,8 +24,8 @@ const (
 	ixStride = 4
 	// ixBin is the width, in frames, of the offset histogram bins.
 	ixBin = 16
-	// ixMinVotes is the vote count (in two neighbouring bins) that makes a
-	// candidate worth verifying.
+	// ixMinVotes is the least vote count (in two neighbouring bins) that
+	// makes a candidate worth verifying; large indexes need more (ixChance).
 	ixMinVotes = 4
 	// ixBlock is the verification block length in frames (~1 s); blocks are
 	// compared at offsets within ±ixDrift of the candidate's, and the best
@@ -81,14 +81,17 @@ type Match struct {
 	Offset int
 	// BER is the verified bit error rate (mean of the block-wise minima).
 	BER float64
-	// Votes is the number of hash hits that proposed the candidate.
+	// Votes is the number of hash hits that proposed the candidate, in its
+	// two best neighbouring offset bins (each counted up to 255).
 	Votes int
 }
 
 // Index finds near-duplicates of a print among the prints added to it, by
 // bit-sampling hash tables and offset voting, then verifying the best
-// candidates by their bit error rate. Memory is about ixTables·8/ixStride
-// bytes plus 4 bytes per indexed frame. Add and Index.Query are not safe for
+// candidates by their bit error rate. Memory is about ixTables·4/ixStride
+// bytes (8 when print number and frame need more than 32 bits) plus 4
+// bytes per indexed frame; each Searcher adds 1 byte per indexed print and
+// 16-frame offset bin. Add and Index.Query are not safe for
 // concurrent use; for parallel queries give each goroutine a Searcher.
 type Index struct {
 	MaxBER float64 // 0 means DefaultMaxBER
@@ -103,9 +106,10 @@ type Index struct {
 	ent32  [ixTables][]uint32
 	ent64  [ixTables][]uint64
 	fb     uint
-	built  int // number of prints in the tables
-	maxLen int // longest indexed print, frames
-	full   int // bucket size above which queries skip a key
+	wide   bool // use ent64 even when 32 bits would do (for tests)
+	built  int  // number of prints in the tables
+	maxLen int  // longest indexed print, frames
+	full   int  // bucket size above which queries skip a key
 	def    *Searcher
 }
 
@@ -115,6 +119,9 @@ type Index struct {
 type Searcher struct {
 	ix    *Index
 	votes []uint8
+	keys  []uint32
+	mark  []bool
+	hot   []int32
 	cands []cand
 	vs    verifier
 }
@@ -198,7 +205,7 @@ func (ix *Index) build() {
 	}
 	keys := make([]uint16, n)
 	ix.fb = uint(bits.Len(uint(max(ix.maxLen-ixSpan, 0) / ixStride)))
-	wide := bits.Len(uint(len(ix.prints)))+int(ix.fb) > 32
+	wide := ix.wide || bits.Len(uint(len(ix.prints)))+int(ix.fb) > 32
 	for t := range ixTables {
 		cnt := make([]uint32, nk+1)
 		i := 0
@@ -250,22 +257,48 @@ func (s *Searcher) Query(p Print) []Match {
 		s.votes = s.votes[:need]
 	}
 	votes := s.votes
+	// The query's keys, and the number of hits they will give.
+	nq := (len(w)-ixSpan)/ixQueryStride + 1
+	if cap(s.keys) < ixTables*nq {
+		s.keys = make([]uint32, ixTables*nq)
+	}
+	keys := s.keys[:ixTables*nq]
 	hits := 0
 	for t := range ixTables {
-		if ix.ent64[t] != nil {
-			hits += vote(votes, ix, t, w, ix.ent64[t], nb)
-		} else {
-			hits += vote(votes, ix, t, w, ix.ent32[t], nb)
+		st := ix.start[t]
+		for i := range nq {
+			k := ix.key(t, w, i*ixQueryStride)
+			keys[t*nq+i] = k
+			if n := int(st[k+1] - st[k]); n <= ix.full {
+				hits += n
+			}
 		}
 	}
 	// Votes a candidate needs: at least ixMinVotes, and more than chance
-	// would give any of the cells if the hits fell at random.
+	// would give any of the cells if the hits fell at random. A bin pair
+	// reaching need has a bin of at least h = ⌈need/2⌉; the voting lists
+	// the prints with such a bin.
 	need := chanceThreshold(2*float64(hits)/float64(nb*np), nb*np)
-	// Best bin pair per print.
+	h := uint8((need + 1) / 2)
+	if cap(s.mark) < np {
+		s.mark = make([]bool, np)
+	}
+	mark := s.mark[:np]
+	s.hot = s.hot[:0]
+	for t := range ixTables {
+		kt := keys[t*nq : (t+1)*nq]
+		if ix.ent64[t] != nil {
+			s.hot = vote(votes, ix, t, len(w), kt, ix.ent64[t], nb, h, mark, s.hot)
+		} else {
+			s.hot = vote(votes, ix, t, len(w), kt, ix.ent32[t], nb, h, mark, s.hot)
+		}
+	}
+	// Best bin pair per listed print.
 	cands := s.cands[:0]
-	for pi := range np {
-		if bv, bj := bestPair(votes[pi*nb:(pi+1)*nb], need); bv >= need {
-			cands = append(cands, cand{pi, bj*ixBin - len(w) + ixBin, bv})
+	for _, pi := range s.hot {
+		mark[pi] = false
+		if bv, bj := bestPair(votes[int(pi)*nb:(int(pi)+1)*nb], need); bv >= need {
+			cands = append(cands, cand{int(pi), bj*ixBin - len(w) + ixBin, bv})
 		}
 	}
 	clear(votes)
@@ -373,30 +406,34 @@ func fillEntries[E uint32 | uint64](dst []E, prints [][]uint32, keys []uint16, s
 	return dst
 }
 
-// vote adds the hits of query w in table t to the counters (rows of nb
-// offset bins per print; offset + len(w) = indexed frame − query frame +
-// len(w) ≥ 0) and returns the number of hits. Over-full buckets are skipped.
-func vote[E uint32 | uint64](votes []uint8, ix *Index, t int, w []uint32, ent []E, nb int) int {
+// vote adds the hits of a query of n frames in table t to the counters
+// (rows of nb offset bins per print; offset + n = indexed frame − query
+// frame + n ≥ 0), keys[i] being the key of query frame i·ixQueryStride.
+// Over-full buckets are skipped. A print whose counter reaches h is marked
+// and appended to hot, which is returned.
+func vote[E uint32 | uint64](votes []uint8, ix *Index, t, n int, keys []uint32, ent []E, nb int, h uint8, mark []bool, hot []int32) []int32 {
 	st := ix.start[t]
 	fb := ix.fb
 	fm := E(1)<<fb - 1
-	hits := 0
-	for f := 0; f+ixSpan <= len(w); f += ixQueryStride {
-		k := ix.key(t, w, f)
+	for i, k := range keys {
 		bucket := ent[st[k]:st[k+1]]
 		if len(bucket) > ix.full {
 			continue // a key shared by too many windows says nothing
 		}
-		hits += len(bucket)
-		base := uint(len(w) - f)
+		base := uint(n - i*ixQueryStride)
 		for _, e := range bucket {
-			c := uint(e>>fb)*uint(nb) + (uint(e&fm)*ixStride+base)/ixBin
+			pi := uint(e >> fb)
+			c := pi*uint(nb) + (uint(e&fm)*ixStride+base)/ixBin
 			if v := votes[c]; v < 255 {
 				votes[c] = v + 1
+				if v+1 == h && !mark[pi] {
+					mark[pi] = true
+					hot = append(hot, int32(pi))
+				}
 			}
 		}
 	}
-	return hits
+	return hot
 }
 
 // chanceThreshold returns the smallest vote count m ≥ ixMinVotes for which
