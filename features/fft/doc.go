@@ -34,6 +34,14 @@
 // hold scratch space: reuse one per goroutine. With a reused destination
 // the transforms do not allocate.
 //
+// On amd64 with AVX (AVX2 for the split pass of PowerSpectrum) the radix-4
+// passes of stride ≥ 2, the first radix-8 pass of a float64 real transform,
+// the power split pass and the window product of PowerSpectrumWindowed run
+// as vector assembly, two complex values per register. They perform the
+// same IEEE operations in the same order as the portable loops (no fused
+// multiply-add), so results are bit-identical on every machine; the build
+// tag purego selects the portable loops everywhere.
+//
 // # Convolution
 //
 // Convolver computes the causal linear convolution y[t] = Σ_k h[k]·x[t−k]
