@@ -520,44 +520,22 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 		ent.Variant = -1
 		ent.Seed = 0
 		ent.Path = fmt.Sprintf("%s/%s/%s/%s-c%04d.wav", r.Machine, r.Condition, folder, st, c.Index)
-		if old, ok := e.reusable(ent); ok {
-			res.entries = append(res.entries, old)
-			res.reused++
-		} else {
-			sum, err := e.write(ent.Path, x)
-			if err != nil {
+		if !e.reuse(&res, ent) {
+			if err := e.emit(&res, ent, x); err != nil {
 				return err
 			}
-			ent.SHA256 = sum
-			if err := e.journal.Append(ent); err != nil {
-				return err
-			}
-			res.entries = append(res.entries, ent)
 		}
 		if !augmentable {
 			return nil
 		}
 		for v := 0; v < recipe.Variants; v++ {
-			ent, y := e.variant(scratch, j, recipe, c, x, v, st)
-			if old, ok := e.reusable(ent); ok {
-				res.entries = append(res.entries, old)
-				res.reused++
+			if e.reuse(&res, e.variant(j, recipe, c, v, st)) {
 				continue
 			}
-			if y == nil {
-				y, ent = e.render(scratch, j, recipe, c, x, v, st)
-			}
-			if ent.Kind == machine.EntryOutput {
-				sum, err := e.write(ent.Path, y)
-				if err != nil {
-					return err
-				}
-				ent.SHA256 = sum
-			}
-			if err := e.journal.Append(ent); err != nil {
+			y, ent := e.render(scratch, j, recipe, c, x, v, st)
+			if err := e.emit(&res, ent, y); err != nil {
 				return err
 			}
-			res.entries = append(res.entries, ent)
 		}
 		return nil
 	})
@@ -567,9 +545,37 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 	return res
 }
 
+// reuse appends a previous entry that still describes want (same draw,
+// seed, source and file hash) and reports whether it did.
+func (e *env) reuse(res *jobResult, want machine.Entry) bool {
+	old, ok := e.reusable(want)
+	if ok {
+		res.entries = append(res.entries, old)
+		res.reused++
+	}
+	return ok
+}
+
+// emit writes y for an output entry (a rejected one has no file), then
+// journals the entry and appends it to the job's result.
+func (e *env) emit(res *jobResult, ent machine.Entry, y []float64) error {
+	if ent.Kind == machine.EntryOutput {
+		sum, err := e.write(ent.Path, y)
+		if err != nil {
+			return err
+		}
+		ent.SHA256 = sum
+	}
+	if err := e.journal.Append(ent); err != nil {
+		return err
+	}
+	res.entries = append(res.entries, ent)
+	return nil
+}
+
 // variant draws variant v of a clip and returns its ledger entry as far as
-// the draw determines it (no samples computed: the second result is nil).
-func (e *env) variant(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) (machine.Entry, []float64) {
+// the draw determines it (no samples computed).
+func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st string) machine.Entry {
 	r := j.rec
 	seed := VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "variant")
 	drawn := Draw(recipe, NewRand(seed), e.drawContext(j, c))
@@ -584,7 +590,7 @@ func (e *env) variant(ws *workspace, j job, recipe *machine.Recipe, c machine.Cl
 	ent.Seed = seed
 	ent.Draw = drawHash(recs)
 	ent.Path = fmt.Sprintf("%s/%s/augmented/%s-c%04d-v%02d.wav", r.Machine, r.Condition, st, c.Index, v)
-	return ent, nil
+	return ent
 }
 
 func (e *env) drawContext(j job, c machine.Clip) DrawContext {
@@ -595,7 +601,7 @@ func (e *env) drawContext(j job, c machine.Clip) DrawContext {
 // render computes variant v of a clip: the samples and the complete entry
 // (measured values, clip-protection scale, or the rejection reason).
 func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) ([]float64, machine.Entry) {
-	ent, _ := e.variant(ws, j, recipe, c, x, v, st)
+	ent := e.variant(j, recipe, c, v, st)
 	drawn := Draw(recipe, NewRand(ent.Seed), e.drawContext(j, c))
 	y, applied, reason := e.apply(ws, x, drawn, j.c)
 	ent.Steps = applied

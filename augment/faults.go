@@ -39,26 +39,16 @@ func (e *env) faultJob(ctx context.Context, j job) jobResult {
 				if err != nil {
 					return err
 				}
-				if old, ok := e.reusable(ent); ok {
-					res.entries = append(res.entries, old)
-					res.reused++
+				if e.reuse(&res, ent) {
 					continue
 				}
 				y, ent, err := e.faultRender(j, c, x, ki, k, kind, st)
 				if err != nil {
 					return err
 				}
-				if ent.Kind == machine.EntryOutput {
-					sum, err := e.write(ent.Path, y)
-					if err != nil {
-						return err
-					}
-					ent.SHA256 = sum
-				}
-				if err := e.journal.Append(ent); err != nil {
+				if err := e.emit(&res, ent, y); err != nil {
 					return err
 				}
-				res.entries = append(res.entries, ent)
 			}
 		}
 		return nil

@@ -188,8 +188,8 @@ func snrOK(got, target float64, r []float64) bool {
 	return math.Abs(got-target) <= 0.1 && target >= r[0]-1e-9 && target <= r[1]+1e-9
 }
 
-func (e *env) roomIR(i int) *irEntry {
-	key := fmt.Sprintf("mic:%d", i)
+// cachedIR returns the cache entry for key, filled once by fill.
+func (e *env) cachedIR(key string, fill func(*irEntry)) *irEntry {
 	e.mu.Lock()
 	ent := e.irs[key]
 	if ent == nil {
@@ -197,7 +197,12 @@ func (e *env) roomIR(i int) *irEntry {
 		e.irs[key] = ent
 	}
 	e.mu.Unlock()
-	ent.once.Do(func() {
+	ent.once.Do(func() { fill(ent) })
+	return ent
+}
+
+func (e *env) roomIR(i int) *irEntry {
+	return e.cachedIR(fmt.Sprintf("mic:%d", i), func(ent *irEntry) {
 		if e.room == nil || i >= len(e.mics) {
 			ent.err = fmt.Errorf("augment: machine %s has no room and zone", e.m.ID)
 			return
@@ -226,19 +231,10 @@ func (e *env) roomIR(i int) *irEntry {
 		ent.ir = h
 		ent.distance = d
 	})
-	return ent
 }
 
 func (e *env) fileIR(file string) *irEntry {
-	key := "file:" + file
-	e.mu.Lock()
-	ent := e.irs[key]
-	if ent == nil {
-		ent = &irEntry{}
-		e.irs[key] = ent
-	}
-	e.mu.Unlock()
-	ent.once.Do(func() {
+	return e.cachedIR("file:"+file, func(ent *irEntry) {
 		a, err := wavio.ReadFile(e.p.Resolve(file))
 		if err != nil {
 			ent.err = err
@@ -255,5 +251,4 @@ func (e *env) fileIR(file string) *irEntry {
 		}
 		ent.ir = h
 	})
-	return ent
 }
