@@ -402,3 +402,42 @@ func sortRows(rows []Row) {
 		return rows[i].Path < rows[j].Path
 	})
 }
+
+// EmptySplits lists, for each machine and condition that is not held out,
+// the splits with a non-zero fraction that received no normal recorded
+// group (possible by chance with few groups, since assignment is a stable
+// hash). The messages are meant as warnings.
+func EmptySplits(rows []Row, p Policy) []string {
+	type mc struct{ m, c string }
+	got := map[mc]map[string]bool{}
+	for _, r := range rows {
+		if r.Origin != machine.OriginRecorded || r.Label != machine.LabelNormal || r.Reason != ReasonHash {
+			continue
+		}
+		k := mc{r.Machine, r.Condition}
+		if got[k] == nil {
+			got[k] = map[string]bool{}
+		}
+		got[k][r.Split] = true
+	}
+	var out []string
+	for _, c := range p.Conditions {
+		if c.HoldOut {
+			continue
+		}
+		f, err := p.FractionsFor(c.Machine)
+		if err != nil {
+			continue
+		}
+		have := got[mc{c.Machine, c.Name}]
+		for _, s := range []struct {
+			name string
+			v    float64
+		}{{Train, f.Train}, {Eval, f.Eval}, {Test, f.Test}} {
+			if s.v > 0 && !have[s.name] {
+				out = append(out, fmt.Sprintf("machine %q condition %q: no %s group; the stable hash put every group elsewhere: add recordings or sessions", c.Machine, c.Name, s.name))
+			}
+		}
+	}
+	return out
+}

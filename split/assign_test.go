@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"thrum/machine"
@@ -342,4 +343,14 @@ func FuzzListsCSV(f *testing.F) {
 			t.Fatalf("round trip:\n%v\n%v", rows, again)
 		}
 	})
+}
+
+func TestEmptySplitsWarns(t *testing.T) {
+	p := Policy{Seed: 1, Default: Fractions{Train: 0.6, Eval: 0.2, Test: 0.2, AnomalousEval: 0.5},
+		Conditions: []ConditionPolicy{{Machine: "m", Name: "c", RPM: 1000}, {Machine: "m", Name: "h", RPM: 500, HoldOut: true}}}
+	rows := []Row{{Item: Item{Machine: "m", Condition: "c", Origin: "recorded", Label: "normal"}, Split: Train, Reason: ReasonHash}}
+	w := EmptySplits(rows, p)
+	if len(w) != 2 || !strings.Contains(w[0], "no eval group") || !strings.Contains(w[1], "no test group") {
+		t.Errorf("warnings %q", w)
+	}
 }

@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"io"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -87,7 +88,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		fmt.Fprintf(g.stdout, "shard %d/%d done in %.1f s; when every shard is done, run without --shard to join them and finish\n", sh.I, sh.N, time.Since(t0).Seconds())
 		return nil
 	}
-	if err := runSplitQuiet(p, o.Out); err != nil {
+	if err := runSplitQuiet(p, o.Out, g.stderr); err != nil {
 		return err
 	}
 	if _, err := runFeatures(ctx, g, o, p); err != nil {
@@ -168,8 +169,8 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	return nil
 }
 
-func runSplitQuiet(p *machine.Plant, out string) error {
-	return runSplit(context.Background(), &globals{stdout: discard{}, stderr: discard{}}, stageOptions{Out: out}, p)
+func runSplitQuiet(p *machine.Plant, out string, stderr io.Writer) error {
+	return runSplit(context.Background(), &globals{stdout: discard{}, stderr: stderr}, stageOptions{Out: out}, p)
 }
 
 type discard struct{}

@@ -65,6 +65,9 @@ func runSplit(_ context.Context, g *globals, o stageOptions, p *machine.Plant) e
 	if err := split.WriteSplits(o.Out, rows, pol); err != nil {
 		return err
 	}
+	for _, w := range split.EmptySplits(rows, pol) {
+		fmt.Fprintf(g.stderr, "split: warning: %s\n", w)
+	}
 	sum := split.Summarize(rows)
 	if o.JSON {
 		for _, s := range sum {
