@@ -81,6 +81,7 @@ func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, 
 		workers = runtime.NumCPU()
 	}
 	plans := &Plans{}
+	pc := &powerCache{m: make(map[[2]int]float64)}
 	type result struct {
 		frames int64
 		err    error
@@ -121,7 +122,7 @@ func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, 
 			var st chainState
 			for i := range idx {
 				y := <-free
-				y, rate, n, err := st.run(&o, i, paths[i], plans, reverb, bg, bgRate, y)
+				y, rate, n, err := st.run(&o, i, paths[i], plans, reverb, bg, bgRate, pc, y)
 				if err != nil {
 					free <- y
 					res <- result{0, fmt.Errorf("augment: chain: %s: %w", paths[i], err)}
@@ -169,7 +170,7 @@ type chainState struct {
 // those of Speed, Reverb, Background and Gain in turn, with the same
 // arithmetic, but the background mix and the gain share one pass and the
 // background is read in place when it needs no loop.
-func (st *chainState) run(o *ChainOptions, i int, path string, plans *Plans, reverb *room.Reverb, bg []float64, bgRate int, out []float64) ([]float64, int, int64, error) {
+func (st *chainState) run(o *ChainOptions, i int, path string, plans *Plans, reverb *room.Reverb, bg []float64, bgRate int, pc *powerCache, out []float64) ([]float64, int, int64, error) {
 	x, format, err := st.read(path)
 	if err != nil {
 		return out, 0, 0, err
@@ -203,14 +204,21 @@ func (st *chainState) run(o *ChainOptions, i int, path string, plans *Plans, rev
 		off = int(float64(i%o.OffsetCycle) * o.OffsetStep * fs)
 	}
 	var noise []float64
-	if off >= 0 && off+len(x) <= len(bg) {
+	inPlace := off >= 0 && off+len(x) <= len(bg)
+	if inPlace {
 		noise = bg[off : off+len(x)]
 	} else {
 		noise = Background{Source: bg, Offset: off}.Loop(y, fs)
 	}
 	// As Mix, then Gain: y = k·(x + g·noise); a silent clip or background
 	// leaves x unmixed, as Background.Apply does.
-	ps, pn := Power(x, fs, WeightNone), Power(noise, fs, WeightNone)
+	ps := Power(x, fs, WeightNone)
+	var pn float64
+	if inPlace {
+		pn = pc.power(bg, off, len(x), fs)
+	} else {
+		pn = Power(noise, fs, WeightNone)
+	}
 	if ps == 0 || pn == 0 || math.IsNaN(ps) || math.IsNaN(pn) || math.IsNaN(o.SNR) || math.IsInf(o.SNR, 0) {
 		copy(y, x)
 		scale(y, k)
@@ -280,4 +288,30 @@ func scale(y []float64, k float64) {
 	for i := range y {
 		y[i] *= k
 	}
+}
+
+// powerCache holds the mean square of background segments by (offset,
+// length): clips of one length at one offset share it, so it is computed
+// once per pair. It is safe for concurrent use.
+type powerCache struct {
+	mu sync.Mutex
+	m  map[[2]int]float64
+}
+
+// power returns Power(bg[off:off+n], fs, WeightNone).
+func (c *powerCache) power(bg []float64, off, n int, fs float64) float64 {
+	k := [2]int{off, n}
+	c.mu.Lock()
+	p, ok := c.m[k]
+	c.mu.Unlock()
+	if ok {
+		return p
+	}
+	p = Power(bg[off:off+n], fs, WeightNone)
+	c.mu.Lock()
+	if len(c.m) < 1<<12 {
+		c.m[k] = p
+	}
+	c.mu.Unlock()
+	return p
 }

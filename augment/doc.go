@@ -28,9 +28,14 @@
 // least 83 dB down. A Resampler plan holds the polyphase table: exact
 // phases when r = p/q with q ≤ 1000 (1.03 = 103/100 has 100 phases), else
 // 256 phases with linear interpolation between neighbouring phases. Plans
-// are read-only and may be shared; Plans caches them by ratio. The dot
-// products use AVX2/FMA where present and a portable version that rounds
-// identically, so outputs are bit-identical on every machine.
+// are read-only and may be shared; Plans caches them by ratio. Exact-phase
+// plans compute in float32 (coefficients and input rounded to float32,
+// products and sums rounded separately): measured error about −140 dB re
+// the signal, below one step of 24-bit PCM at usual levels, for about 1.5×
+// the float64 speed; interpolated plans compute in float64 with fused
+// multiply-adds. The dot products use AVX2 where present and a portable
+// version that rounds identically, so outputs are bit-identical on every
+// machine.
 //
 // # Level, polarity, time
 //

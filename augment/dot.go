@@ -38,8 +38,9 @@ func dot4sLanes(h, x *float64, xstride, n int, out *[4]float64) {
 
 // dot4s32Lanes is the portable form of dot4s32: float32 products and sums,
 // each rounded on its own (the explicit conversions forbid fusing them),
-// two blocks of eight lanes per output, reduced 8 → 4 → 2 → 1 by adding
-// the upper half to the lower, exactly as the AVX kernel does.
+// two blocks of eight lanes per output, then the eight lane sums added
+// pairwise as ((0+1)+(2+3))+((4+5)+(6+7)), exactly as the AVX kernel's
+// horizontal adds do.
 func dot4s32Lanes(h, x *float32, xstride, n int, out *[4]float64) {
 	hs := unsafe.Slice(h, n)
 	xp := unsafe.Slice(x, 3*xstride+n)
@@ -57,8 +58,7 @@ func dot4s32Lanes(h, x *float32, xstride, n int, out *[4]float64) {
 		for j := range y {
 			y[j] = l[j] + l[j+8]
 		}
-		z0, z1, z2, z3 := y[0]+y[4], y[1]+y[5], y[2]+y[6], y[3]+y[7]
-		w0, w1 := z0+z2, z1+z3
-		out[k] = float64(w0 + w1)
+		h01, h23, h45, h67 := y[0]+y[1], y[2]+y[3], y[4]+y[5], y[6]+y[7]
+		out[k] = float64((h01 + h23) + (h45 + h67))
 	}
 }
