@@ -72,10 +72,7 @@ func (s Shift) Apply(dst, x []float64, fs float64) []float64 {
 // variant keeps every SNR and level ratio inside it; the factor belongs in
 // the ledger.
 func Protect(x []float64) float64 {
-	var peak float64
-	for _, v := range x {
-		peak = math.Max(peak, math.Abs(v))
-	}
+	peak := PeakAbs(x)
 	if peak <= Ceiling {
 		return 1
 	}
@@ -87,6 +84,17 @@ func Protect(x []float64) float64 {
 		x[i] *= k
 	}
 	return k
+}
+
+// PeakAbs returns the largest |x[i]| (0 for an empty x; NaNs are skipped).
+func PeakAbs(x []float64) float64 {
+	var peak float64
+	for _, v := range x {
+		if a := math.Abs(v); a > peak {
+			peak = a
+		}
+	}
+	return peak
 }
 
 // Ceiling is the peak magnitude Protect allows, just under full scale so

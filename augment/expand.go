@@ -375,6 +375,7 @@ type irEntry struct {
 	once     sync.Once
 	ir       []float64
 	distance float64
+	reverb   room.Reverb // measured responses only
 	rt60     float64
 	err      error
 }

@@ -108,7 +108,7 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 				break
 			}
 			rec.Params = map[string]float64{"rt60_s": ir.rt60}
-			out = room.NewReverb(ir.ir, e.fs).Apply(ws.spare(cur), cur, e.fs)
+			out = ir.reverb.Apply(ws.spare(cur), cur, e.fs)
 		case "tempo":
 			out = Tempo{Factor: 1 + rec.Params["percent"]/100}.Apply(ws.spare(cur), cur, e.fs)
 		case "pitch":
@@ -121,11 +121,7 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 		recs = append(recs, rec)
 	}
 	if reason == "" {
-		var peak float64
-		for _, v := range cur {
-			peak = math.Max(peak, math.Abs(v))
-		}
-		if peak == 0 {
+		if PeakAbs(cur) == 0 {
 			reason = RejectSilent
 		}
 	}
@@ -173,8 +169,19 @@ func weighting(s string) Weighting {
 	return WeightNone
 }
 
-// measuredSNR re-measures a mix: the added component is out − in.
+// measuredSNR re-measures a mix: the added component is out − in. Without
+// weighting it is summed in place; with A-weighting it is filtered as a
+// signal of its own.
 func measuredSNR(in, out []float64, fs float64, w Weighting) float64 {
+	if w == WeightNone {
+		var ps, pn float64
+		for i, v := range in {
+			d := out[i] - v
+			ps += v * v
+			pn += d * d
+		}
+		return 10 * math.Log10(ps/pn)
+	}
 	n := make([]float64, len(in))
 	for i := range n {
 		n[i] = out[i] - in[i]
@@ -245,6 +252,8 @@ func (e *env) fileIR(file string) *irEntry {
 			return
 		}
 		h := room.UnitEnergy(a.Mono(nil))
+		// measured responses are few: keep the convolver (kernel spectra)
+		ent.reverb = room.NewReverb(h, e.fs)
 		ent.rt60, err = room.T30(h, e.fs)
 		if err != nil {
 			ent.rt60 = math.NaN()

@@ -175,7 +175,7 @@ func (c *Convolver) size(l int) *convSize {
 	if cs, ok := c.sizes[l]; ok {
 		return cs
 	}
-	cs := &convSize{l: l, t: newRealTables(l)}
+	cs := &convSize{l: l, t: sharedRealTables(l)}
 	w := cs.get()
 	copy(w.buf, c.h)
 	clear(w.buf[len(c.h):])

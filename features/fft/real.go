@@ -1,6 +1,9 @@
 package fft
 
-import "fmt"
+import (
+	"fmt"
+	"sync"
+)
 
 // NextPow2 returns the smallest power of two ≥ n (1 for n ≤ 1).
 func NextPow2(n int) int {
@@ -18,6 +21,23 @@ type realTables struct {
 	n    int
 	pl   *plan        // complex plan of size n/2
 	post []complex128 // e^{−2πik/n}, k = 0 … n/4
+}
+
+// tablesMemo holds the tables of every real-FFT size built in this process,
+// keyed by length. Tables are immutable once built, so every plan of a size
+// shares them: building them (mostly sines and cosines) costs as much as
+// dozens of transforms, and a run builds many short-lived plans (one FFT
+// convolver per impulse-response use). Memory grows with the number of
+// distinct sizes only.
+var tablesMemo sync.Map
+
+// sharedRealTables returns the memoised tables of length n.
+func sharedRealTables(n int) *realTables {
+	if t, ok := tablesMemo.Load(n); ok {
+		return t.(*realTables)
+	}
+	t, _ := tablesMemo.LoadOrStore(n, newRealTables(n))
+	return t.(*realTables)
 }
 
 func newRealTables(n int) *realTables {
@@ -43,7 +63,7 @@ type Real struct {
 
 // NewReal returns a plan for real sequences of length n. It panics if n is
 // not a power of two ≥ 2.
-func NewReal(n int) *Real { return newRealFrom(newRealTables(n)) }
+func NewReal(n int) *Real { return newRealFrom(sharedRealTables(n)) }
 
 func newRealFrom(t *realTables) *Real {
 	m := t.n / 2
