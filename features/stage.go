@@ -345,6 +345,8 @@ type worker struct {
 	sz   *Summarizer
 	env  *EnvelopePlan
 	feat []float32
+	x    []float64 // reused decode buffer
+	spec []float64 // reused envelope spectrum
 }
 
 func newWorker(st machineSetup, fs float64) (*worker, error) {
@@ -361,6 +363,7 @@ func newWorker(st machineSetup, fs float64) (*worker, error) {
 
 func npyBytes(data []float32, shape ...int) ([]byte, string, error) {
 	var buf bytes.Buffer
+	buf.Grow(4*len(data) + 128)
 	if err := WriteNPY(&buf, data, shape...); err != nil {
 		return nil, "", err
 	}
@@ -374,12 +377,18 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 		res.err = fmt.Errorf("features: %s: %w", in.Path, err)
 		return res
 	}
-	a, err := wavio.ReadFile(filepath.Join(out, filepath.FromSlash(in.Path)))
+	f, err := wavio.Open(filepath.Join(out, filepath.FromSlash(in.Path)))
 	if err != nil {
 		return fail(err)
 	}
-	fs := float64(a.Format.SampleRate)
-	x := a.Mono(nil)
+	rate := f.Format().SampleRate
+	fs := float64(rate)
+	x, err := readMono(f, w.x)
+	f.Close()
+	if err != nil {
+		return fail(err)
+	}
+	w.x = x
 	feat, frames := w.lm.Compute(nil, x)
 	res.feat, res.frames = feat, frames
 	res.row.frames = frames
@@ -402,7 +411,8 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 		w.env = ep
 	}
 	ep.Reset(len(x))
-	spec, binHz := ep.Spectrum(nil, x, fs, w.st.envLo, w.st.envHi)
+	spec, binHz := ep.Spectrum(w.spec, x, fs, w.st.envLo, w.st.envHi)
+	w.spec = spec
 	keep := int(w.st.envMax/binHz) + 1
 	if keep > len(spec) {
 		keep = len(spec)
@@ -448,7 +458,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 				Kind: machine.EntryOutput, Stage: "features", Path: mpath, SHA256: msum,
 				Source: in.Source, SourceSHA256: in.SourceSHA256, Clip: in.Clip, Machine: in.Machine,
 				Condition: in.Condition, Origin: machine.OriginAugmented, Label: in.Label, Group: in.Group,
-				Variant: k, Seed: seed, SampleRate: a.Format.SampleRate, Speed: 1, Scale: 1,
+				Variant: k, Seed: seed, SampleRate: rate, Speed: 1, Scale: 1,
 				Steps: []machine.StepRecord{{Kind: "mask", Params: params, Text: map[string]string{"input": in.Path, "features": res.row.npy}}},
 				Tool:  machine.ToolVersion,
 			})

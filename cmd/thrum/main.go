@@ -12,6 +12,7 @@ import (
 	"fmt"
 	"os"
 	"os/signal"
+	"runtime/debug"
 	"syscall"
 )
 
@@ -34,7 +35,16 @@ type usageError struct{ err error }
 
 func (e *usageError) Error() string { return e.err.Error() }
 
+// memoryLimit is the soft heap limit thrum sets unless GOMEMLIMIT is given:
+// the stages allocate large short-lived buffers (clips, spectra), and the
+// limit makes the collector return them before the heap grows far past the
+// live set, so peak memory stays flat as the corpus grows.
+const memoryLimit = 192 << 20
+
 func main() {
+	if os.Getenv("GOMEMLIMIT") == "" {
+		debug.SetMemoryLimit(memoryLimit)
+	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	root := newRootCmd(os.Stdout, os.Stderr)
