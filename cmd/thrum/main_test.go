@@ -464,3 +464,57 @@ func TestAuditListsModeFindsCopy(t *testing.T) {
 		t.Errorf("copy not found (exit %d):\n%s", code, out)
 	}
 }
+
+// The credibility guard: with an RT60 range the room cannot meet, every
+// variant with a room step is rejected, recorded with its reason and not
+// written; the others are unaffected.
+func TestGuardRejectsAndRecordsReason(t *testing.T) {
+	plant := demo(t)
+	b, _ := os.ReadFile(plant)
+	src := strings.Replace(string(b), "rt60_range = [0.5, 2.5]", "rt60_range = [0.01, 0.02]", 1)
+	if src == string(b) {
+		t.Fatal("demo plant has no rt60_range = [0.5, 2.5] line")
+	}
+	os.WriteFile(plant, []byte(src), 0o644)
+	out := filepath.Join(filepath.Dir(plant), "out")
+	stdout, stderr, code := cli(t, "expand", plant, "--out", out, "-q")
+	if code != exitOK {
+		t.Fatalf("expand: %s", stderr)
+	}
+	if !strings.Contains(stdout, "rt60-outside-room-range") {
+		t.Errorf("summary does not count the rejections:\n%s", stdout)
+	}
+	rejected, room := 0, 0
+	files, _ := filepath.Glob(filepath.Join(out, "*", machine.LedgerName))
+	for _, f := range files {
+		es, err := machine.ReadLedgerFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, e := range es {
+			hasRoom := false
+			for _, s := range e.Steps {
+				hasRoom = hasRoom || s.Kind == "room"
+			}
+			if !hasRoom {
+				continue
+			}
+			room++
+			if e.Kind != machine.EntryRejected || e.Reason != "rt60-outside-room-range" || e.Path != "" || e.SHA256 != "" {
+				t.Errorf("room variant not rejected as expected: %+v", e)
+			}
+			if e.Kind == machine.EntryRejected {
+				rejected++
+				for _, s := range e.Steps {
+					if s.Kind == "room" && s.Params["rt60_s"] >= 0.01 && s.Params["rt60_s"] <= 0.02 {
+						t.Errorf("rejected for RT60 but its measured RT60 is inside the range: %+v", s)
+					}
+				}
+			}
+		}
+	}
+	if room == 0 || rejected != room {
+		t.Errorf("%d room variants, %d rejected", room, rejected)
+	}
+	checkRecorded(t, out)
+}
