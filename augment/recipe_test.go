@@ -179,3 +179,19 @@ func TestShardPartitionsWork(t *testing.T) {
 		}
 	}
 }
+
+func TestNonphysicalStepsAreMarked(t *testing.T) {
+	r := &machine.Recipe{ID: "np", Variants: 1, MinSteps: 2, MaxSteps: 2, Steps: []machine.Step{
+		{Kind: "tempo", Range: []float64{-5, 5}, Nonphysical: true},
+		{Kind: "pitch", Range: []float64{-50, 50}, Nonphysical: true},
+	}}
+	c := &machine.Condition{RPM: 1000, BandPercent: 1}
+	for _, d := range Draw(r, NewRand(3), DrawContext{Condition: c}) {
+		if !d.Record.Nonphysical {
+			t.Errorf("%s not marked non-physical in its record", d.Record.Kind)
+		}
+	}
+	if !Nonphysical(Tempo{Factor: 1.02}) || !Nonphysical(Pitch{Cents: 10}) || Nonphysical(Speed{Ratio: 1.01}) {
+		t.Error("Nonphysical misclassifies a transform")
+	}
+}
