@@ -99,4 +99,14 @@
 // mel-spaced or linear axis) with one colour bar in dB spanning
 // DynamicRangeDB below the loudest cell; EnvelopePNG plots an envelope
 // spectrum and marks named defect lines. Both write atomically.
+//
+// # Stage and report
+//
+// RunStage is the features stage of a plant: per clip of the split lists a
+// log-mel .npy, its envelope spectrum (band around the machine's resonance
+// range, Hilbert envelope, amplitude spectrum up to 1 kHz by default), the
+// summary statistics in index.csv, masked copies of training clips (logged
+// in the machine's ledger), per-machine statistics from training clips
+// only, optional stacked arrays and the pictures. WriteReport renders a
+// run's summary as one self-contained HTML page with the pictures embedded.
 package features
