@@ -204,6 +204,9 @@ func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath,
 	if err != nil {
 		return err
 	}
+	for _, pr := range inv.Problems {
+		fmt.Fprintf(g.stderr, "survey: %s\n", pr)
+	}
 	r := o.renderer(g)
 	opt, err := augmentOptions(inv, o, r)
 	if err != nil {
