@@ -1,8 +1,6 @@
 package split
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -223,7 +221,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	// Every listed file exists, matches its listed hash and its ledger line.
 	hashes := map[string]string{}
 	for _, r := range active {
-		h, err := HashFile(filepath.Join(out, filepath.FromSlash(r.Path)))
+		h, err := machine.HashFile(filepath.Join(out, filepath.FromSlash(r.Path)))
 		if err != nil {
 			rep.add(RuleListed, "cannot read: "+err.Error(), r.Path)
 			continue
@@ -410,7 +408,7 @@ func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, erro
 	rep := &Report{}
 	hashes := map[string]string{}
 	for _, p := range append(append([]string(nil), trainPaths...), evalPaths...) {
-		h, err := HashFile(p)
+		h, err := machine.HashFile(p)
 		if err != nil {
 			return nil, err
 		}
@@ -581,20 +579,6 @@ func printFiles(root string, paths []string, opt AuditOptions) (prints []Print, 
 	return prints, errs
 }
 
-// HashFile returns the hex SHA-256 of the file's bytes, streamed.
-func HashFile(name string) (string, error) {
-	f, err := os.Open(name)
-	if err != nil {
-		return "", fmt.Errorf("split: %w", err)
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("split: %s: %w", name, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
-}
-
 // ReadLedgers reads every OUT/*/ledger.jsonl, in file-name order.
 func ReadLedgers(out string) ([]machine.Entry, error) {
 	files, err := filepath.Glob(filepath.Join(out, "*", "ledger.jsonl"))
@@ -604,12 +588,7 @@ func ReadLedgers(out string) ([]machine.Entry, error) {
 	sort.Strings(files)
 	var all []machine.Entry
 	for _, f := range files {
-		r, err := os.Open(f)
-		if err != nil {
-			return nil, fmt.Errorf("split: %w", err)
-		}
-		e, err := machine.ReadLedger(r, f)
-		r.Close()
+		e, err := machine.ReadLedgerFile(f)
 		if err != nil {
 			return nil, fmt.Errorf("split: %w", err)
 		}
