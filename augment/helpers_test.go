@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/cmplx"
 	"testing"
+
+	"thrum/machine/dsp"
 )
 
 // tone returns n samples of amp·cos(2π·f·t + ph) at rate fs.
@@ -44,12 +46,12 @@ func fitTone(y []float64, f, fs float64, lo, hi int) (amp, resid float64) {
 // interpolation of the log magnitude around the largest bin.
 func peakFreq(t *testing.T, x []float64, fs, flo, fhi float64) float64 {
 	t.Helper()
-	n := nextPow2(4 * len(x))
+	n := dsp.NextPow2(4 * len(x))
 	buf := make([]float64, n)
 	for i, v := range x {
 		buf[i] = v * (0.5 - 0.5*math.Cos(2*math.Pi*float64(i)/float64(len(x))))
 	}
-	spec := newRealFFT(n).forward(nil, buf)
+	spec := dsp.NewRealFFT(n).Forward(nil, buf)
 	df := fs / float64(n)
 	best := -1
 	for k := int(flo/df) + 1; k < int(fhi/df) && k+1 < len(spec); k++ {
@@ -67,7 +69,7 @@ func peakFreq(t *testing.T, x []float64, fs, flo, fhi float64) float64 {
 // welch returns the one-sided Welch PSD (Hann, 50 % overlap, segment
 // length seg) of x and the bin spacing in Hz.
 func welch(x []float64, fs float64, seg int) ([]float64, float64) {
-	p := newRealFFT(seg)
+	p := dsp.NewRealFFT(seg)
 	win := make([]float64, seg)
 	for i := range win {
 		win[i] = 0.5 - 0.5*math.Cos(2*math.Pi*float64(i)/float64(seg))
@@ -80,7 +82,7 @@ func welch(x []float64, fs float64, seg int) ([]float64, float64) {
 		for i := range buf {
 			buf[i] = x[s+i] * win[i]
 		}
-		spec = p.forward(spec, buf)
+		spec = p.Forward(spec, buf)
 		for k, c := range spec {
 			psd[k] += real(c)*real(c) + imag(c)*imag(c)
 		}

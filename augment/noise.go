@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+
+	"thrum/machine/dsp"
 )
 
 // Noise colours accepted by Noise and Coloured.
@@ -41,18 +43,18 @@ func Coloured(dst []float64, colour string, fs float64, rng *rand.Rand) ([]float
 		if n == 0 {
 			return dst, nil
 		}
-		N := nextPow2(max(n, 2))
+		N := dsp.NextPow2(max(n, 2))
 		buf := make([]float64, N)
 		for i := range buf {
 			buf[i] = rng.NormFloat64()
 		}
-		p := newRealFFT(N)
-		spec := p.forward(nil, buf)
+		p := dsp.NewRealFFT(N)
+		spec := p.Forward(nil, buf)
 		spec[0] = 0
 		for k := 1; k < len(spec); k++ {
 			spec[k] *= complex(1/math.Sqrt(float64(k)), 0)
 		}
-		p.inverse(buf, spec)
+		p.Inverse(buf, spec)
 		copy(dst, buf)
 	case Brown:
 		if n == 0 {

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"sync"
+
+	"thrum/machine/dsp"
 )
 
 // Stopband attenuation, transition band and table size of the speed-change
@@ -234,7 +236,7 @@ func (rs *Resampler) applyInterpolated(dst, x []float64) {
 		if cnt == 1 {
 			h[2], h[3], xp[2], xp[3] = h[0], h[1], xp[0], xp[1]
 		}
-		dot4p(&h, &xp, taps, &out)
+		dsp.Dot4p(&out, &h, &xp, taps)
 		for j := 0; j < cnt; j++ {
 			v0, v1 := out[2*j], out[2*j+1]
 			dst[m+j] = v0 + frac[j]*(v1-v0)
@@ -269,7 +271,7 @@ func (rs *Resampler) applyRational(dst, x []float64) {
 		start, ph := s0, 0
 		d := dst[base : base+4*q]
 		for j := 0; j < q; j++ {
-			dot4s32(&rs.table32[j*taps], &x32[start], rs.p, taps, &out)
+			dsp.Dot4s32(&out, &rs.table32[j*taps], &x32[start], rs.p, taps)
 			d[j], d[j+q], d[j+2*q], d[j+3*q] = out[0], out[1], out[2], out[3]
 			start += dp
 			if ph += dq; ph >= q {
@@ -311,7 +313,7 @@ func (rs *Resampler) oneRational(x []float64, x32 []float32, m int) float64 {
 		return dotEdge(rs.table[row*taps:(row+1)*taps], x, start)
 	}
 	var out [4]float64
-	dot4s32(&rs.table32[row*taps], &x32[start], 0, taps, &out)
+	dsp.Dot4s32(&out, &rs.table32[row*taps], &x32[start], 0, taps)
 	return out[0]
 }
 
@@ -329,7 +331,7 @@ func (rs *Resampler) one(x []float64, m int) float64 {
 			w[i] = float32(x[start+i])
 		}
 		var out [4]float64
-		dot4s32(&rs.table32[m%rs.q*rs.taps], &w[0], 0, rs.taps, &out)
+		dsp.Dot4s32(&out, &rs.table32[m%rs.q*rs.taps], &w[0], 0, rs.taps)
 		return out[0]
 	}
 	taps := rs.taps
@@ -348,7 +350,7 @@ func (rs *Resampler) one(x []float64, m int) float64 {
 	}
 	h := [4]*float64{h0, h1, h0, h1}
 	xs := [4]*float64{&x[start], &x[start], &x[start], &x[start]}
-	dot4(&h, &xs, taps, &out)
+	dsp.Dot4(&out, &h, &xs, taps)
 	if rs.q == 0 {
 		return out[0] + a*(out[1]-out[0])
 	}

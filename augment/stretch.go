@@ -3,6 +3,8 @@ package augment
 import (
 	"fmt"
 	"math"
+
+	"thrum/machine/dsp"
 )
 
 // Tempo changes the tempo by Factor without changing pitch (Factor > 1 is
@@ -105,7 +107,7 @@ func (t Tempo) Apply(dst, x []float64, fs float64) []float64 {
 			for c := lo; c <= hi; c += 4 {
 				if c >= 0 && nat >= 0 && c+3+hop <= n && nat+hop <= n {
 					// Four candidate offsets against the continuation at once.
-					dot4s(&x[nat], &x[c], 1, hop, &out)
+					dsp.Dot4s(&out, &x[nat], &x[c], 1, hop)
 				} else {
 					for k := range out {
 						var s float64

@@ -5,7 +5,7 @@ import (
 	"math"
 	"math/cmplx"
 
-	"thrum/features/fft"
+	"thrum/machine/dsp"
 )
 
 // EnvelopePlan does envelope analysis for bearing diagnostics: band-pass
@@ -40,8 +40,8 @@ import (
 // is not safe for concurrent use.
 type EnvelopePlan struct {
 	n, size int
-	fft     *fft.Real
-	cfft    *fft.Complex
+	fft     *dsp.RealFFT
+	cfft    *dsp.ComplexFFT
 	coef    []complex128 // size/2+1 real-FFT coefficients
 	ana     []complex128 // size analytic spectrum, then analytic signal
 	pad     []float64    // size real scratch
@@ -74,8 +74,8 @@ func (p *EnvelopePlan) Reset(n int) {
 	}
 	if size != p.size {
 		p.size = size
-		p.fft = fft.NewReal(size)
-		p.cfft = fft.NewComplex(size)
+		p.fft = dsp.NewRealFFT(size)
+		p.cfft = dsp.NewComplexFFT(size)
 		p.coef = make([]complex128, size/2+1)
 		p.ana = make([]complex128, size)
 		p.pad = make([]float64, size)

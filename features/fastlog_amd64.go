@@ -2,10 +2,7 @@
 
 package features
 
-import "golang.org/x/sys/cpu"
-
-// logVec reports AVX2 with OS support for the YMM state; fixed at start-up.
-var logVec = cpu.X86.HasAVX && cpu.X86.HasAVX2
+import "thrum/machine/dsp"
 
 //go:noescape
 func log10RowAVX2(dst *float32, src *float64, n int, eps float64, tab *[2]float64) bool
@@ -15,7 +12,7 @@ func log10RowAVX2(dst *float32, src *float64, n int, eps float64, tab *[2]float6
 func log10RowEps(dst []float32, src []float64, eps float64) {
 	dst = dst[:len(src)]
 	k := 0
-	if logVec && len(src) >= 4 {
+	if dsp.HasAVX2 && len(src) >= 4 {
 		k = len(src) &^ 3
 		if !log10RowAVX2(&dst[0], &src[0], k, eps, &logTable[0]) {
 			k = 0

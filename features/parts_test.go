@@ -3,11 +3,11 @@ package features
 import (
 	"testing"
 
-	"thrum/features/fft"
+	"thrum/machine/dsp"
 )
 
 func BenchmarkPartFFT(b *testing.B) {
-	r := fft.NewReal(1024)
+	r := dsp.NewRealFFT(1024)
 	x := noise(1024, 1)
 	d := make([]float64, 513)
 	for b.Loop() {

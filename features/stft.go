@@ -3,6 +3,8 @@ package features
 import (
 	"fmt"
 	"math"
+
+	"thrum/machine/dsp"
 )
 
 // PeriodicHann writes the periodic Hann window of length n,
@@ -30,7 +32,7 @@ type STFT struct {
 	magnitude bool
 	win       []float64
 	frame     []float64
-	plan      fftPlan
+	fft       *dsp.RealFFT
 }
 
 // NewSTFT builds a plan from the NFFT, Hop, Center, Pad and Magnitude fields
@@ -48,7 +50,7 @@ func NewSTFT(cfg Config) (*STFT, error) {
 		magnitude: c.Magnitude,
 		win:       PeriodicHann(nil, c.NFFT),
 		frame:     make([]float64, c.NFFT),
-		plan:      newPowerPlan(c.NFFT),
+		fft:       dsp.NewRealFFT(c.NFFT),
 	}, nil
 }
 
@@ -102,10 +104,10 @@ func (s *STFT) Frame(dst []float64, x []float64, i int) []float64 {
 	}
 	dst = dst[:s.Bins()]
 	if start := s.start(i); start >= 0 && start+s.n <= len(x) {
-		s.plan.powerWindowed(dst, x[start:start+s.n], s.win)
+		s.fft.PowerSpectrumWindowed(dst, x[start:start+s.n], s.win)
 	} else {
 		s.window(x, i)
-		s.plan.power(dst, s.frame)
+		s.fft.PowerSpectrum(dst, s.frame)
 	}
 	if s.magnitude {
 		for k, v := range dst {

@@ -4,7 +4,7 @@ import (
 	"math"
 	"math/bits"
 
-	"thrum/features/fft"
+	"thrum/machine/dsp"
 )
 
 // Fingerprint parameters (see doc.go, "Near-duplicate fingerprint").
@@ -43,7 +43,7 @@ type Fingerprinter struct {
 	win   []float64
 	lo    []int // first bin of each band
 	hi    []int // one past the last bin of each band
-	fft   *fft.Real
+	fft   *dsp.RealFFT
 	frame []float64
 	pow   []float64
 	raw   []float64
@@ -85,7 +85,7 @@ func NewFingerprinter(fs float64) *Fingerprinter {
 	}
 	f.lo = edge[:fpBands]
 	f.hi = edge[1:]
-	f.fft = fft.NewReal(n)
+	f.fft = dsp.NewRealFFT(n)
 	f.frame = make([]float64, n)
 	f.pow = make([]float64, n/2+1)
 	f.tw = make([]float64, fpSmooth)

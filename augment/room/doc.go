@@ -101,7 +101,7 @@
 //
 // # Convolution
 //
-// Reverb applies an IR by causal FFT convolution (package thrum/features/fft),
+// Reverb applies an IR by causal FFT convolution (package thrum/machine/dsp),
 // cut to the length of the input; NewReverb builds the convolver once, which
 // caches the IR spectrum, and the result is safe for concurrent use.
 package room

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"thrum/features/fft"
+	"thrum/machine/dsp"
 )
 
 // Reverb convolves signals with a room impulse response.
@@ -14,7 +14,7 @@ type Reverb struct {
 	// Fs is the IR's sampling rate in Hz; zero skips the rate check.
 	Fs float64
 
-	conv *fft.Convolver // nil for a literal Reverb: Apply then builds one per call
+	conv *dsp.Convolver // nil for a literal Reverb: Apply then builds one per call
 }
 
 // NewReverb returns a Reverb for ir sampled at fs Hz (0: unchecked) with the
@@ -22,7 +22,7 @@ type Reverb struct {
 func NewReverb(ir []float64, fs float64) Reverb {
 	v := Reverb{IR: ir, Fs: fs}
 	if len(ir) > 0 {
-		v.conv = fft.NewConvolver(ir)
+		v.conv = dsp.NewConvolver(ir)
 	}
 	return v
 }
@@ -45,7 +45,7 @@ func (v Reverb) Apply(dst, x []float64, fs float64) []float64 {
 	}
 	c := v.conv
 	if c == nil || c.Len() != len(v.IR) {
-		c = fft.NewConvolver(v.IR)
+		c = dsp.NewConvolver(v.IR)
 	}
 	if len(x) > 0 && cap(dst) > 0 && &dst[:1][0] == &x[0] {
 		x = append([]float64(nil), x...) // the convolver needs distinct buffers

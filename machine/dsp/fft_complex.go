@@ -1,34 +1,34 @@
-package fft
+package dsp
 
 import "fmt"
 
-// Complex is a plan for complex FFTs of one power-of-two length. Like Real it
+// ComplexFFT is a plan for complex FFTs of one power-of-two length. Like RealFFT it
 // holds scratch space and must not be used by several goroutines at once.
-type Complex struct {
+type ComplexFFT struct {
 	pl   *plan
 	a, b []complex128
 }
 
-// NewComplex returns a plan for complex sequences of length n. It panics if
+// NewComplexFFT returns a plan for complex sequences of length n. It panics if
 // n is not a power of two ≥ 1.
-func NewComplex(n int) *Complex {
+func NewComplexFFT(n int) *ComplexFFT {
 	if !isPow2(n) {
-		panic(fmt.Sprintf("fft: complex length %d is not a power of two ≥ 1", n))
+		panic(fmt.Sprintf("dsp: complex length %d is not a power of two ≥ 1", n))
 	}
-	return &Complex{pl: newPlan(n), a: make([]complex128, n), b: make([]complex128, n)}
+	return &ComplexFFT{pl: newPlan(n), a: make([]complex128, n), b: make([]complex128, n)}
 }
 
 // Len returns the sequence length n.
-func (p *Complex) Len() int { return p.pl.m }
+func (p *ComplexFFT) Len() int { return p.pl.m }
 
 // Forward computes X[k] = Σ_t x[t]·e^{−2πikt/n} (unnormalised) of src into
 // dst and returns it. dst may be src itself (in-place) but must not overlap
 // it otherwise. If cap(dst) < n a new slice is allocated. It panics if
 // len(src) ≠ n.
-func (p *Complex) Forward(dst, src []complex128) []complex128 {
+func (p *ComplexFFT) Forward(dst, src []complex128) []complex128 {
 	n := p.pl.m
 	if len(src) != n {
-		panic(fmt.Sprintf("fft: source length %d, plan length %d", len(src), n))
+		panic(fmt.Sprintf("dsp: source length %d, plan length %d", len(src), n))
 	}
 	dst = grow(dst, n)
 	if &dst[0] == &src[0] {
@@ -42,10 +42,10 @@ func (p *Complex) Forward(dst, src []complex128) []complex128 {
 // Inverse computes x[t] = Σ_k X[k]·e^{+2πikt/n} (unnormalised:
 // Inverse(Forward(x)) = n·x) of src into dst and returns it, with the same
 // rules as Forward.
-func (p *Complex) Inverse(dst, src []complex128) []complex128 {
+func (p *ComplexFFT) Inverse(dst, src []complex128) []complex128 {
 	n := p.pl.m
 	if len(src) != n {
-		panic(fmt.Sprintf("fft: source length %d, plan length %d", len(src), n))
+		panic(fmt.Sprintf("dsp: source length %d, plan length %d", len(src), n))
 	}
 	dst = grow(dst, n)
 	// x = conj(FFT(conj(X))).
@@ -61,7 +61,7 @@ func (p *Complex) Inverse(dst, src []complex128) []complex128 {
 }
 
 // into runs the plan from src so that the result lands in dst.
-func (p *Complex) into(dst, src []complex128) {
+func (p *ComplexFFT) into(dst, src []complex128) {
 	if p.pl.npass()%2 == 1 || p.pl.npass() == 0 {
 		p.pl.run(src, dst, p.a)
 	} else {

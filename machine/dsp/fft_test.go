@@ -1,4 +1,4 @@
-package fft
+package dsp
 
 import (
 	"fmt"
@@ -78,7 +78,7 @@ func TestRealMatchesGonum(t *testing.T) {
 	for n := 2; n <= 1<<20; n *= 2 {
 		x := randReal(rng, n)
 		want := fourier.NewFFT(n).Coefficients(nil, x)
-		got := NewReal(n).Forward(nil, x)
+		got := NewRealFFT(n).Forward(nil, x)
 		if len(got) != n/2+1 {
 			t.Fatalf("n=%d: %d bins, want %d", n, len(got), n/2+1)
 		}
@@ -92,13 +92,13 @@ func TestRealMatchesGonum(t *testing.T) {
 	}
 }
 
-// TestComplexMatchesGonum compares Complex.Forward with gonum's CmplxFFT.
+// TestComplexMatchesGonum compares ComplexFFT.Forward with gonum's CmplxFFT.
 func TestComplexMatchesGonum(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	for n := 1; n <= 1<<18; n *= 2 {
 		x := randComplex(rng, n)
 		want := fourier.NewCmplxFFT(n).Coefficients(nil, x)
-		got := NewComplex(n).Forward(nil, x)
+		got := NewComplexFFT(n).Forward(nil, x)
 		tol := 1e-15 * float64(log2(n)+1) * 4
 		if e := relErr(got, want); e > tol {
 			t.Errorf("n=%d: relative error %.3g vs gonum, tol %.3g", n, e, tol)
@@ -112,7 +112,7 @@ func TestComplexMatchesDefinition(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 3))
 	for n := 1; n <= 256; n *= 2 {
 		x := randComplex(rng, n)
-		p := NewComplex(n)
+		p := NewComplexFFT(n)
 		tol := 1e-15 * float64(log2(n)+1) * 8
 		if e := relErr(p.Forward(nil, x), naiveDFT(x, -1)); e > tol {
 			t.Errorf("n=%d forward: relative error %.3g, tol %.3g", n, e, tol)
@@ -134,7 +134,7 @@ func TestCosineBin(t *testing.T) {
 		for i := range x {
 			x[i] = math.Cos(2 * math.Pi * float64((c.k*i)%c.n) / float64(c.n))
 		}
-		X := NewReal(c.n).Forward(nil, x)
+		X := NewRealFFT(c.n).Forward(nil, x)
 		tol := 1e-12 * float64(c.n)
 		for k, v := range X {
 			want := 0.0
@@ -156,7 +156,7 @@ func TestParseval(t *testing.T) {
 	rng := rand.New(rand.NewPCG(2, 1))
 	for n := 2; n <= 1<<16; n *= 4 {
 		x := randReal(rng, n)
-		p := NewReal(n)
+		p := NewRealFFT(n)
 		X := p.Forward(nil, x)
 		ps := p.PowerSpectrum(nil, x)
 		var ex, ef float64
@@ -192,7 +192,7 @@ func TestPowerSpectrum32(t *testing.T) {
 			x32[i] = float32(rng.NormFloat64())
 			x64[i] = float64(x32[i])
 		}
-		p := NewReal(n)
+		p := NewRealFFT(n)
 		a := p.PowerSpectrum32(nil, x32)
 		b := p.PowerSpectrum(nil, x64)
 		for k := range b {
@@ -207,7 +207,7 @@ func TestRoundTrip(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 1))
 	for n := 2; n <= 1<<18; n *= 2 {
 		x := randReal(rng, n)
-		p := NewReal(n)
+		p := NewRealFFT(n)
 		X := p.Forward(nil, x)
 		// The imaginary parts of bins 0 and n/2 must be ignored.
 		X[0] += 5i
@@ -223,7 +223,7 @@ func TestRoundTrip(t *testing.T) {
 		}
 
 		c := randComplex(rng, n)
-		q := NewComplex(n)
+		q := NewComplexFFT(n)
 		d := q.Inverse(nil, q.Forward(nil, c))
 		for i := range d {
 			d[i] /= complex(float64(n), 0)
@@ -234,12 +234,12 @@ func TestRoundTrip(t *testing.T) {
 	}
 }
 
-// TestInPlaceComplex checks dst == src for Complex.
+// TestInPlaceComplex checks dst == src for ComplexFFT.
 func TestInPlaceComplex(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 2))
 	for n := 1; n <= 1<<10; n *= 2 {
 		x := randComplex(rng, n)
-		p := NewComplex(n)
+		p := NewComplexFFT(n)
 		want := p.Forward(nil, x)
 		got := p.Forward(x, x)
 		for i := range want {
@@ -262,7 +262,7 @@ func TestInPlaceComplex(t *testing.T) {
 func TestDstReuse(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 3))
 	x := randReal(rng, 64)
-	p := NewReal(64)
+	p := NewRealFFT(64)
 	want := p.Forward(nil, x)
 	buf := make([]complex128, 100)
 	for i := range buf {
@@ -284,11 +284,11 @@ func TestAllocs(t *testing.T) {
 	n := 1024
 	x := randReal(rng, n)
 	x32 := make([]float32, n)
-	p := NewReal(n)
+	p := NewRealFFT(n)
 	X := make([]complex128, n/2+1)
 	y := make([]float64, n)
 	ps := make([]float64, n/2+1)
-	q := NewComplex(n)
+	q := NewComplexFFT(n)
 	c := randComplex(rng, n)
 	d := make([]complex128, n)
 	h := randReal(rng, 300)
@@ -301,13 +301,13 @@ func TestAllocs(t *testing.T) {
 		name string
 		f    func()
 	}{
-		{"Real.Forward", func() { p.Forward(X, x) }},
-		{"Real.Inverse", func() { p.Inverse(y, X) }},
-		{"Real.PowerSpectrum", func() { p.PowerSpectrum(ps, x) }},
-		{"Real.PowerSpectrum32", func() { p.PowerSpectrum32(ps, x32) }},
-		{"Real.PowerSpectrumWindowed", func() { p.PowerSpectrumWindowed(ps, x, x) }},
-		{"Complex.Forward", func() { q.Forward(d, c) }},
-		{"Complex.Inverse", func() { q.Inverse(d, c) }},
+		{"RealFFT.Forward", func() { p.Forward(X, x) }},
+		{"RealFFT.Inverse", func() { p.Inverse(y, X) }},
+		{"RealFFT.PowerSpectrum", func() { p.PowerSpectrum(ps, x) }},
+		{"RealFFT.PowerSpectrum32", func() { p.PowerSpectrum32(ps, x32) }},
+		{"RealFFT.PowerSpectrumWindowed", func() { p.PowerSpectrumWindowed(ps, x, x) }},
+		{"ComplexFFT.Forward", func() { q.Forward(d, c) }},
+		{"ComplexFFT.Inverse", func() { q.Inverse(d, c) }},
 		{"Convolver.Apply", func() { conv.Apply(out, long) }},
 		{"Convolver.ApplyFull", func() { conv.ApplyFull(out, long) }},
 	} {
@@ -322,17 +322,17 @@ func TestPanics(t *testing.T) {
 		name string
 		f    func()
 	}{
-		{"NewReal(0)", func() { NewReal(0) }},
-		{"NewReal(1)", func() { NewReal(1) }},
-		{"NewReal(12)", func() { NewReal(12) }},
-		{"NewComplex(0)", func() { NewComplex(0) }},
-		{"NewComplex(6)", func() { NewComplex(6) }},
-		{"Forward short src", func() { NewReal(8).Forward(nil, make([]float64, 7)) }},
-		{"Inverse short src", func() { NewReal(8).Inverse(nil, make([]complex128, 4)) }},
-		{"PowerSpectrum long src", func() { NewReal(8).PowerSpectrum(nil, make([]float64, 9)) }},
-		{"PowerSpectrum32 short src", func() { NewReal(8).PowerSpectrum32(nil, make([]float32, 4)) }},
-		{"Complex.Forward short src", func() { NewComplex(8).Forward(nil, make([]complex128, 4)) }},
-		{"Complex.Inverse long src", func() { NewComplex(8).Inverse(nil, make([]complex128, 9)) }},
+		{"NewRealFFT(0)", func() { NewRealFFT(0) }},
+		{"NewRealFFT(1)", func() { NewRealFFT(1) }},
+		{"NewRealFFT(12)", func() { NewRealFFT(12) }},
+		{"NewComplexFFT(0)", func() { NewComplexFFT(0) }},
+		{"NewComplexFFT(6)", func() { NewComplexFFT(6) }},
+		{"Forward short src", func() { NewRealFFT(8).Forward(nil, make([]float64, 7)) }},
+		{"Inverse short src", func() { NewRealFFT(8).Inverse(nil, make([]complex128, 4)) }},
+		{"PowerSpectrum long src", func() { NewRealFFT(8).PowerSpectrum(nil, make([]float64, 9)) }},
+		{"PowerSpectrum32 short src", func() { NewRealFFT(8).PowerSpectrum32(nil, make([]float32, 4)) }},
+		{"ComplexFFT.Forward short src", func() { NewComplexFFT(8).Forward(nil, make([]complex128, 4)) }},
+		{"ComplexFFT.Inverse long src", func() { NewComplexFFT(8).Inverse(nil, make([]complex128, 9)) }},
 		{"NewConvolver(nil)", func() { NewConvolver(nil) }},
 	} {
 		func() {
@@ -342,8 +342,8 @@ func TestPanics(t *testing.T) {
 					t.Errorf("%s: no panic", c.name)
 					return
 				}
-				if s := fmt.Sprint(r); !strings.HasPrefix(s, "fft: ") {
-					t.Errorf("%s: panic %q lacks the fft: prefix", c.name, s)
+				if s := fmt.Sprint(r); !strings.HasPrefix(s, "dsp: ") {
+					t.Errorf("%s: panic %q lacks the dsp: prefix", c.name, s)
 				}
 			}()
 			c.f()
@@ -352,11 +352,11 @@ func TestPanics(t *testing.T) {
 }
 
 func TestLen(t *testing.T) {
-	if got := NewReal(512).Len(); got != 512 {
-		t.Errorf("Real.Len = %d", got)
+	if got := NewRealFFT(512).Len(); got != 512 {
+		t.Errorf("RealFFT.Len = %d", got)
 	}
-	if got := NewComplex(64).Len(); got != 64 {
-		t.Errorf("Complex.Len = %d", got)
+	if got := NewComplexFFT(64).Len(); got != 64 {
+		t.Errorf("ComplexFFT.Len = %d", got)
 	}
 	if got := NewConvolver(make([]float64, 7)).Len(); got != 7 {
 		t.Errorf("Convolver.Len = %d", got)

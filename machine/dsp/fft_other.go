@@ -1,11 +1,6 @@
 //go:build !amd64 || purego
 
-package fft
-
-const (
-	haveAVX  = false
-	haveAVX2 = false
-)
+package dsp
 
 func pass4Vec(y, x []complex128, l, s int, w1, w2, w3 []complex128) bool { return false }
 

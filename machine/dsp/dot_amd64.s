@@ -204,24 +204,6 @@ preduce:
 	VZEROUPPER
 	RET
 
-// func cpuid(eax, ecx uint32) (a, b, c, d uint32)
-TEXT ·cpuid(SB), NOSPLIT, $0-24
-	MOVL eax+0(FP), AX
-	MOVL ecx+4(FP), CX
-	CPUID
-	MOVL AX, a+8(FP)
-	MOVL BX, b+12(FP)
-	MOVL CX, c+16(FP)
-	MOVL DX, d+20(FP)
-	RET
-
-// func xgetbv0() uint32
-TEXT ·xgetbv0(SB), NOSPLIT, $0-4
-	MOVL $0, CX
-	BYTE $0x0f; BYTE $0x01; BYTE $0xd0 // XGETBV
-	MOVL AX, ret+0(FP)
-	RET
-
 // func dot4s32AVX(h, x *float32, xstride, n int, out *[4]float64)
 // out[k] = Σ_{i<n} h[i]·x[k·xstride+i] in float32 for k = 0..3; n is a
 // multiple of 16. Products and sums are rounded separately (no fused

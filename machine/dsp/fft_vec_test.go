@@ -1,4 +1,4 @@
-package fft
+package dsp
 
 import (
 	"math/rand/v2"
@@ -8,7 +8,7 @@ import (
 // TestPass4VecBitIdentical checks that the vector radix-4 pass gives
 // exactly the bits of the portable loops it replaces.
 func TestPass4VecBitIdentical(t *testing.T) {
-	if !haveAVX {
+	if !HasAVX {
 		t.Skip("no vector kernel on this machine or build")
 	}
 	rng := rand.New(rand.NewPCG(7, 1))
@@ -51,7 +51,7 @@ func TestPass4VecBitIdentical(t *testing.T) {
 // TestPass8FirstVecBitIdentical checks the vector first radix-8 pass of
 // a real sequence against the portable loop, bit for bit.
 func TestPass8FirstVecBitIdentical(t *testing.T) {
-	if !haveAVX {
+	if !HasAVX {
 		t.Skip("no vector kernel on this machine or build")
 	}
 	rng := rand.New(rand.NewPCG(8, 1))
@@ -82,7 +82,7 @@ func TestPass8FirstVecBitIdentical(t *testing.T) {
 // TestPostPowerVecBitIdentical checks the vector split-and-square pass
 // against the portable loop, bit for bit.
 func TestPostPowerVecBitIdentical(t *testing.T) {
-	if !haveAVX2 {
+	if !HasAVX2 {
 		t.Skip("no vector kernel on this machine or build")
 	}
 	rng := rand.New(rand.NewPCG(9, 1))
@@ -114,7 +114,7 @@ func TestPostPowerVecBitIdentical(t *testing.T) {
 func TestPowerSpectrumWindowed(t *testing.T) {
 	rng := rand.New(rand.NewPCG(10, 1))
 	for _, n := range []int{2, 4, 8, 16, 1024, 4096} {
-		p := NewReal(n)
+		p := NewRealFFT(n)
 		x := make([]float64, n)
 		w := make([]float64, n)
 		xw := make([]float64, n)

@@ -1,15 +1,6 @@
 //go:build amd64 && !purego
 
-package fft
-
-import "golang.org/x/sys/cpu"
-
-// haveAVX reports AVX with OS support for the YMM state, haveAVX2 also
-// AVX2; both are fixed at start-up.
-var (
-	haveAVX  = cpu.X86.HasAVX
-	haveAVX2 = cpu.X86.HasAVX && cpu.X86.HasAVX2
-)
+package dsp
 
 // pass4AVX runs the radix-4 butterflies of p = 0 … h−1, q = 0 … s−1 (s even)
 // with the layout of pass4; unit twiddles when w1 is nil. It performs the
@@ -24,7 +15,7 @@ func pass4AVX(y, x *complex128, quarter, s, h int, w1, w2, w3 *complex128)
 // (pass4Last: none; pass4Flat, s < 16: every p; pass4: all but p = 0), and
 // reports whether it did.
 func pass4Vec(y, x []complex128, l, s int, w1, w2, w3 []complex128) bool {
-	if !haveAVX || s < 2 {
+	if !HasAVX || s < 2 {
 		return false
 	}
 	quarter := len(x) / 4
@@ -54,7 +45,7 @@ func pass8FirstRealAVX(y *complex128, x *float64, e, n int, tw *complex128)
 // regrouped twiddles w8 (l/8 even).
 func pass8FirstVec(y []complex128, x []float64, w8 []complex128) bool {
 	e := len(x) / 8
-	if !haveAVX || w8 == nil || e%4 != 0 || len(w8) != 7*e/2 {
+	if !HasAVX || w8 == nil || e%4 != 0 || len(w8) != 7*e/2 {
 		return false
 	}
 	_ = y[4*e-1]
@@ -69,7 +60,7 @@ func postPowerAVX2(x *float64, z *complex128, m int, w *complex128)
 // (bit-identical) and reports whether it did.
 func postPowerVec(x []float64, z, w []complex128) bool {
 	m := len(z)
-	if !haveAVX2 || m < 4 || m%4 != 0 {
+	if !HasAVX2 || m < 4 || m%4 != 0 {
 		return false
 	}
 	_, _ = x[m], w[m/2]
@@ -83,7 +74,7 @@ func mulAVX(dst, a, b *float64, n int)
 // mulInto sets dst[i] = a[i]·b[i]; the three slices have equal lengths.
 func mulInto(dst, a, b []float64) {
 	n := len(dst)
-	if haveAVX && n >= 8 {
+	if HasAVX && n >= 8 {
 		k := n &^ 7
 		_, _ = a[n-1], b[n-1]
 		mulAVX(&dst[0], &a[0], &b[0], k)

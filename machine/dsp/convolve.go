@@ -1,4 +1,4 @@
-package fft
+package dsp
 
 import (
 	"math"
@@ -54,7 +54,7 @@ func (cs *convSize) put(w *convWork) {
 }
 
 type convWork struct {
-	r   *Real
+	r   *RealFFT
 	buf []float64 // l samples
 }
 
@@ -62,7 +62,7 @@ type convWork struct {
 // kernel is empty.
 func NewConvolver(kernel []float64) *Convolver {
 	if len(kernel) == 0 {
-		panic("fft: empty convolution kernel")
+		panic("dsp: empty convolution kernel")
 	}
 	c := &Convolver{
 		h:     append([]float64(nil), kernel...),

@@ -1,4 +1,4 @@
-package fft
+package dsp
 
 import (
 	"math"

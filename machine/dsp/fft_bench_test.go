@@ -1,4 +1,4 @@
-package fft
+package dsp
 
 import (
 	"fmt"
@@ -17,7 +17,7 @@ func BenchmarkRealForward(b *testing.B) {
 		x := randReal(rand.New(rand.NewPCG(9, 1)), n)
 		dst := make([]complex128, n/2+1)
 		b.Run(fmt.Sprintf("fft/%d", n), func(b *testing.B) {
-			p := NewReal(n)
+			p := NewRealFFT(n)
 			b.ReportAllocs()
 			for b.Loop() {
 				p.Forward(dst, x)
@@ -35,7 +35,7 @@ func BenchmarkRealForward(b *testing.B) {
 
 func BenchmarkRealInverse(b *testing.B) {
 	for _, n := range benchSizes {
-		p := NewReal(n)
+		p := NewRealFFT(n)
 		X := p.Forward(nil, randReal(rand.New(rand.NewPCG(9, 2)), n))
 		dst := make([]float64, n)
 		b.Run(fmt.Sprintf("fft/%d", n), func(b *testing.B) {
@@ -61,7 +61,7 @@ func BenchmarkPowerSpectrum(b *testing.B) {
 		for i, v := range x {
 			x32[i] = float32(v)
 		}
-		p := NewReal(n)
+		p := NewRealFFT(n)
 		dst := make([]float64, n/2+1)
 		b.Run(fmt.Sprintf("float64/%d", n), func(b *testing.B) {
 			b.ReportAllocs()
@@ -83,7 +83,7 @@ func BenchmarkComplexForward(b *testing.B) {
 		x := randComplex(rand.New(rand.NewPCG(9, 4)), n)
 		dst := make([]complex128, n)
 		b.Run(fmt.Sprintf("fft/%d", n), func(b *testing.B) {
-			p := NewComplex(n)
+			p := NewComplexFFT(n)
 			b.ReportAllocs()
 			for b.Loop() {
 				p.Forward(dst, x)

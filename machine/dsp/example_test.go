@@ -1,22 +1,22 @@
-package fft_test
+package dsp_test
 
 import (
 	"fmt"
 	"math"
 	"math/cmplx"
 
-	"thrum/features/fft"
+	"thrum/machine/dsp"
 )
 
 // A unit cosine at bin 3 of a 16-point transform lands in bin 3 with
 // magnitude n/2 = 8.
-func ExampleReal_Forward() {
+func ExampleRealFFT_Forward() {
 	const n = 16
 	x := make([]float64, n)
 	for t := range x {
 		x[t] = math.Cos(2 * math.Pi * 3 * float64(t) / n)
 	}
-	X := fft.NewReal(n).Forward(nil, x)
+	X := dsp.NewRealFFT(n).Forward(nil, x)
 	for k, v := range X {
 		if m := cmplx.Abs(v); m > 1e-9 {
 			fmt.Printf("bin %d: %.6f\n", k, m)
@@ -28,7 +28,7 @@ func ExampleReal_Forward() {
 
 // A two-tap moving sum: each output is the sample plus its predecessor.
 func ExampleConvolver_Apply() {
-	c := fft.NewConvolver([]float64{1, 1})
+	c := dsp.NewConvolver([]float64{1, 1})
 	fmt.Println(c.Apply(nil, []float64{1, 2, 3, 4}))
 	fmt.Println(c.ApplyFull(nil, []float64{1, 2, 3, 4}))
 	// Output:

@@ -1,4 +1,4 @@
-package features
+package dsp
 
 import (
 	"math"
@@ -9,7 +9,7 @@ import (
 )
 
 // gonumPlan computes the power spectrum with gonum's FFTPACK port, an
-// independent reference for the plan the STFT uses.
+// independent reference for RealFFT.PowerSpectrum (the STFT's transform).
 type gonumPlan struct {
 	fft  *fourier.FFT
 	coef []complex128
@@ -24,17 +24,17 @@ func (p *gonumPlan) power(dst, src []float64) []float64 {
 	return dst[:len(c)]
 }
 
-func TestPowerPlanMatchesGonum(t *testing.T) {
+func TestPowerSpectrumMatchesGonum(t *testing.T) {
 	rng := rand.New(rand.NewPCG(4, 4))
 	for _, n := range []int{4, 8, 64, 512, 1024, 4096} {
 		ref := &gonumPlan{fft: fourier.NewFFT(n), coef: make([]complex128, n/2+1)}
-		pl := newPowerPlan(n)
+		pl := NewRealFFT(n)
 		x := make([]float64, n)
 		for i := range x {
 			x[i] = rng.NormFloat64()
 		}
 		want := ref.power(make([]float64, n/2+1), x)
-		got := pl.power(make([]float64, n/2+1), x)
+		got := pl.PowerSpectrum(make([]float64, n/2+1), x)
 		var peak float64
 		for _, v := range want {
 			peak = math.Max(peak, v)

@@ -1,11 +1,11 @@
-package augment
+package dsp
 
 import (
 	"math"
 	"unsafe"
 )
 
-// dot4Lanes is the portable form of dot4. For each output it keeps eight
+// dot4Lanes is the portable form of Dot4. For each output it keeps eight
 // lanes (two blocks of four), reduces them pairwise in a fixed order and
 // uses fused multiply-adds, exactly as the AVX2 kernel does.
 func dot4Lanes(h, x *[4]*float64, n int, out *[4]float64) {
@@ -36,7 +36,7 @@ func dot4sLanes(h, x *float64, xstride, n int, out *[4]float64) {
 	dot4Lanes(&hp, &ws, n, out)
 }
 
-// dot4s32Lanes is the portable form of dot4s32: float32 products and sums,
+// dot4s32Lanes is the portable form of Dot4s32: float32 products and sums,
 // each rounded on its own (the explicit conversions forbid fusing them),
 // two blocks of eight lanes per output, then the eight lane sums added
 // pairwise as ((0+1)+(2+3))+((4+5)+(6+7)), exactly as the AVX kernel's

@@ -1,4 +1,4 @@
-package fft
+package dsp
 
 import (
 	"fmt"
@@ -42,7 +42,7 @@ func sharedRealTables(n int) *realTables {
 
 func newRealTables(n int) *realTables {
 	if n < 2 || !isPow2(n) {
-		panic(fmt.Sprintf("fft: real length %d is not a power of two ≥ 2", n))
+		panic(fmt.Sprintf("dsp: real length %d is not a power of two ≥ 2", n))
 	}
 	m := n / 2
 	t := &realTables{n: n, pl: newPlan(m), post: make([]complex128, m/2+1)}
@@ -52,30 +52,30 @@ func newRealTables(n int) *realTables {
 	return t
 }
 
-// Real is a plan for real FFTs of one power-of-two length. The twiddle
-// tables are computed once by NewReal; the plan also holds scratch space, so
-// a Real must not be used by several goroutines at once.
-type Real struct {
+// RealFFT is a plan for real FFTs of one power-of-two length. The twiddle
+// tables are computed once by NewRealFFT; the plan also holds scratch space, so
+// a RealFFT must not be used by several goroutines at once.
+type RealFFT struct {
 	t    *realTables
 	a, b []complex128 // scratch, n/2 each
 	xw   []float64    // windowed input, n (made on first use)
 }
 
-// NewReal returns a plan for real sequences of length n. It panics if n is
+// NewRealFFT returns a plan for real sequences of length n. It panics if n is
 // not a power of two ≥ 2.
-func NewReal(n int) *Real { return newRealFrom(sharedRealTables(n)) }
+func NewRealFFT(n int) *RealFFT { return newRealFrom(sharedRealTables(n)) }
 
-func newRealFrom(t *realTables) *Real {
+func newRealFrom(t *realTables) *RealFFT {
 	m := t.n / 2
-	return &Real{t: t, a: make([]complex128, m), b: make([]complex128, m)}
+	return &RealFFT{t: t, a: make([]complex128, m), b: make([]complex128, m)}
 }
 
 // Len returns the sequence length n.
-func (p *Real) Len() int { return p.t.n }
+func (p *RealFFT) Len() int { return p.t.n }
 
-func (p *Real) checkSrc(n int) {
+func (p *RealFFT) checkSrc(n int) {
 	if n != p.t.n {
-		panic(fmt.Sprintf("fft: source length %d, plan length %d", n, p.t.n))
+		panic(fmt.Sprintf("dsp: source length %d, plan length %d", n, p.t.n))
 	}
 }
 
@@ -83,7 +83,7 @@ func (p *Real) checkSrc(n int) {
 // X[k] = Σ_t x[t]·e^{−2πikt/n}, k = 0 … n/2 (unnormalised) of src into dst
 // and returns it. If cap(dst) < n/2+1 a new slice is allocated. It panics if
 // len(src) ≠ n.
-func (p *Real) Forward(dst []complex128, src []float64) []complex128 {
+func (p *RealFFT) Forward(dst []complex128, src []float64) []complex128 {
 	p.checkSrc(len(src))
 	m := p.t.n / 2
 	dst = grow(dst, m+1)
@@ -94,7 +94,7 @@ func (p *Real) Forward(dst []complex128, src []float64) []complex128 {
 
 // zspec computes Z = FFT_m(z) for z[j] = src[2j] + i·src[2j+1], preferring
 // out as the result buffer.
-func (p *Real) zspec(src []float64, out []complex128) []complex128 {
+func (p *RealFFT) zspec(src []float64, out []complex128) []complex128 {
 	pl := p.t.pl
 	if pl.npass()%2 == 1 || pl.npass() == 0 {
 		return runReal(pl, src, out, p.a)
@@ -137,7 +137,7 @@ func post(x, z, w []complex128) {
 // PowerSpectrum computes |X[k]|², k = 0 … n/2, of src (see Forward) into
 // dst and returns it. If cap(dst) < n/2+1 a new slice is allocated. It
 // panics if len(src) ≠ n.
-func (p *Real) PowerSpectrum(dst []float64, src []float64) []float64 {
+func (p *RealFFT) PowerSpectrum(dst []float64, src []float64) []float64 {
 	p.checkSrc(len(src))
 	dst = grow(dst, p.t.n/2+1)
 	z := runReal(p.t.pl, src, p.a, p.b)
@@ -147,7 +147,7 @@ func (p *Real) PowerSpectrum(dst []float64, src []float64) []float64 {
 
 // PowerSpectrum32 is PowerSpectrum for float32 samples; arithmetic is in
 // float64.
-func (p *Real) PowerSpectrum32(dst []float64, src []float32) []float64 {
+func (p *RealFFT) PowerSpectrum32(dst []float64, src []float32) []float64 {
 	p.checkSrc(len(src))
 	dst = grow(dst, p.t.n/2+1)
 	z := runReal(p.t.pl, src, p.a, p.b)
@@ -198,10 +198,10 @@ func postPowerGo(x []float64, z, w []complex128) {
 // Inverse(Forward(x)) = n·x). The imaginary parts of bins 0 and n/2 are
 // ignored. If cap(dst) < n a new slice is allocated. It panics if
 // len(src) ≠ n/2+1.
-func (p *Real) Inverse(dst []float64, src []complex128) []float64 {
+func (p *RealFFT) Inverse(dst []float64, src []complex128) []float64 {
 	n, m := p.t.n, p.t.n/2
 	if len(src) != m+1 {
-		panic(fmt.Sprintf("fft: spectrum length %d, want %d", len(src), m+1))
+		panic(fmt.Sprintf("dsp: spectrum length %d, want %d", len(src), m+1))
 	}
 	dst = grow(dst, n)
 	pre(p.a, src, p.t.post)
@@ -214,7 +214,7 @@ func (p *Real) Inverse(dst []float64, src []complex128) []float64 {
 // Forward(src)·h, where h holds n/2+1 bins of a real sequence's spectrum:
 // the circular convolution of src with that sequence, times n. It fuses
 // Forward's split pass, the product and Inverse's merge pass into one loop.
-func (p *Real) filter(dst, src []float64, h []complex128) {
+func (p *RealFFT) filter(dst, src []float64, h []complex128) {
 	z := runReal(p.t.pl, src, p.a, p.b)
 	other := p.b
 	if &z[0] == &p.b[0] {
@@ -305,7 +305,7 @@ func grow[T any](s []T, n int) []T {
 // PowerSpectrumWindowed is PowerSpectrum of the windowed sequence
 // src[t]·win[t] (each product rounded once, as a separate multiply would).
 // It panics if len(src) or len(win) ≠ n.
-func (p *Real) PowerSpectrumWindowed(dst, src, win []float64) []float64 {
+func (p *RealFFT) PowerSpectrumWindowed(dst, src, win []float64) []float64 {
 	p.checkSrc(len(src))
 	p.checkSrc(len(win))
 	if p.xw == nil {
