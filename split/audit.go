@@ -1,18 +1,18 @@
 package split
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
-	"runtime"
 	"sort"
 	"strings"
-	"sync"
 
 	"thrum/machine"
 	"thrum/machine/wavio"
+	"thrum/split/neardup"
 )
 
 // Leakage types, named after the taxonomy of Kapoor & Narayanan (2023),
@@ -128,7 +128,7 @@ func (r *Report) finish() {
 }
 
 // LoadFunc reads an audio file as mono samples and its sample rate.
-type LoadFunc func(path string) ([]float64, float64, error)
+type LoadFunc = neardup.LoadFunc
 
 // LoadWAV reads a WAV file with wavio and mixes it to mono.
 func LoadWAV(path string) ([]float64, float64, error) {
@@ -149,12 +149,11 @@ type AuditOptions struct {
 	// Load reads audio (nil means LoadWAV). It is called from several
 	// goroutines at once.
 	Load LoadFunc
-	// Workers is the number of files fingerprinted at once (0 means
-	// GOMAXPROCS).
+	// Workers is the number of files fingerprinted or searched at once (0
+	// means GOMAXPROCS).
 	Workers int
 	// Progress, when set, is called after each file of a stage
-	// ("fingerprint", "search"), always from the goroutine that called
-	// Audit or AuditLists.
+	// ("fingerprint", "search"); see neardup.Options.Progress.
 	Progress func(stage string, done, total int)
 }
 
@@ -301,7 +300,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 				other = append(other, r.Path)
 			}
 		}
-		if err := nearDuplicates(rep, out, train, other, opt); err != nil {
+		if err := nearDuplicates(context.TODO(), rep, out, train, other, opt); err != nil {
 			return nil, err
 		}
 	}
@@ -425,7 +424,7 @@ func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, erro
 	}
 	rep.ran(RuleExactDup, len(evalPaths))
 	if !opt.SkipNearDuplicates {
-		if err := nearDuplicates(rep, "", trainPaths, evalPaths, opt); err != nil {
+		if err := nearDuplicates(context.TODO(), rep, "", trainPaths, evalPaths, opt); err != nil {
 			return nil, err
 		}
 	}
@@ -433,150 +432,30 @@ func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, erro
 	return rep, nil
 }
 
-// nearDuplicates indexes the training files' prints and queries each eval
-// file's. Paths are joined to root when root is not empty.
-func nearDuplicates(rep *Report, root string, train, eval []string, opt AuditOptions) error {
+// nearDuplicates runs the fingerprint search of eval against train (paths
+// joined to root when root is not empty) and reports its matches and the
+// files it could not check.
+func nearDuplicates(ctx context.Context, rep *Report, root string, train, eval []string, opt AuditOptions) error {
+	res, err := neardup.Search(ctx, root, train, eval, neardup.Options{
+		MaxBER: opt.MaxBER, Load: opt.load(), Workers: opt.Workers, Progress: opt.Progress})
+	if err != nil {
+		return fmt.Errorf("split: near-duplicate search: %w", err)
+	}
 	all := append(append([]string(nil), train...), eval...)
-	prints, errs := printFiles(root, all, opt)
-	for i, err := range errs {
+	for i, err := range res.Errs {
 		if err != nil {
 			rep.add(RuleNearDup, "not checked: "+err.Error(), all[i])
 		}
 	}
-	// One index per frame hop, so prints at different rates never mix.
-	idx := map[float64]*Index{}
-	for i, p := range train {
-		pr := prints[i]
-		if errs[i] != nil {
-			continue
-		}
-		ix := idx[pr.Hop]
-		if ix == nil {
-			ix = NewIndex()
-			ix.MaxBER = opt.MaxBER
-			idx[pr.Hop] = ix
-		}
-		ix.Add(p, pr)
-	}
 	rep.Indexed = len(train)
-	// Queries in parallel, one searcher per worker; results kept in order.
-	workers := opt.Workers
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	searchers := map[float64][]*Searcher{}
-	for hop, ix := range idx {
-		for range workers {
-			searchers[hop] = append(searchers[hop], ix.NewSearcher())
-		}
-	}
-	found := make([][]Match, len(eval))
-	asked := make([]bool, len(eval))
-	next := make(chan int)
-	done := make(chan int)
-	var wg sync.WaitGroup
-	for wk := range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				pr := prints[len(train)+i]
-				if errs[len(train)+i] == nil {
-					if ss := searchers[pr.Hop]; ss != nil {
-						found[i] = ss[wk].Query(pr)
-					}
-					asked[i] = true
-				}
-				done <- i
-			}
-		}()
-	}
-	go func() {
-		for i := range eval {
-			next <- i
-		}
-		close(next)
-		wg.Wait()
-		close(done)
-	}()
-	n := 0
-	for range done {
-		n++
-		if opt.Progress != nil {
-			opt.Progress("search", n, len(eval))
-		}
-	}
+	rep.Queries = res.Queries
 	for i, p := range eval {
-		if asked[i] {
-			rep.Queries++
-		}
-		hop := prints[len(train)+i].Hop
-		for _, m := range found[i] {
-			rep.add(RuleNearDup, fmt.Sprintf("near-duplicate: fingerprint BER %.3f at offset %.3f s", m.BER, float64(m.Offset)*hop), m.ID, p)
+		for _, m := range res.Found[i] {
+			rep.add(RuleNearDup, fmt.Sprintf("near-duplicate: fingerprint BER %.3f at offset %.3f s", m.BER, float64(m.Offset)*res.Hops[i]), m.ID, p)
 		}
 	}
 	rep.ran(RuleNearDup, len(eval))
 	return nil
-}
-
-// printFiles loads and fingerprints paths on opt.Workers goroutines, each
-// with its own Fingerprinter per sample rate. errs[i] says why path i has no
-// print.
-func printFiles(root string, paths []string, opt AuditOptions) (prints []Print, errs []error) {
-	load := opt.load()
-	workers := opt.Workers
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	prints = make([]Print, len(paths))
-	errs = make([]error, len(paths))
-	next := make(chan int)
-	done := make(chan int)
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			fps := map[float64]*Fingerprinter{}
-			for i := range next {
-				full := paths[i]
-				if root != "" {
-					full = filepath.Join(root, filepath.FromSlash(paths[i]))
-				}
-				x, fs, err := load(full)
-				switch {
-				case err != nil:
-					errs[i] = fmt.Errorf("split: %s: %w", paths[i], err)
-				case !(fs >= 4000):
-					errs[i] = fmt.Errorf("split: %s: sample rate %g Hz too low to fingerprint", paths[i], fs)
-				default:
-					f := fps[fs]
-					if f == nil {
-						f = NewFingerprinter(fs)
-						fps[fs] = f
-					}
-					prints[i] = f.Print(Print{}, x)
-				}
-				done <- i
-			}
-		}()
-	}
-	go func() {
-		for i := range paths {
-			next <- i
-		}
-		close(next)
-		wg.Wait()
-		close(done)
-	}()
-	n := 0
-	for range done {
-		n++
-		if opt.Progress != nil {
-			opt.Progress("fingerprint", n, len(paths))
-		}
-	}
-	return prints, errs
 }
 
 // ReadLedgers reads every OUT/*/ledger.jsonl, in file-name order.

@@ -14,6 +14,7 @@ import (
 
 	"thrum/machine"
 	"thrum/machine/wavio"
+	"thrum/split/internal/synthtest"
 )
 
 // writeTree writes an output tree: one machine, 12 recordings of 3 s at
@@ -22,7 +23,7 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 	t.Helper()
 	const fs = 16000
 	rng := rand.New(rand.NewPCG(3, 4))
-	mm := newMachineModel(rng, fs)
+	mm := synthtest.NewMachine(rng, fs)
 	p := Policy{Seed: 42, Conditions: []ConditionPolicy{{Machine: "pump-a1", Name: "nominal", RPM: 1480, BandPercent: 3},
 		{Machine: "pump-a1", Name: "fast", RPM: 1800, BandPercent: 2, HoldOut: true}}, Backgrounds: []string{"hall", "yard", "dock", "roof", "pit", "gate"}}
 	bg := AssignBackgrounds(p.Backgrounds, p)
@@ -50,7 +51,7 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 		if g >= 10 {
 			cond = "fast"
 		}
-		x := mm.record(rng, 3)
+		x := mm.Record(rng, 3)
 		src := fmt.Sprintf("pump-a1/%s/rec%02d.wav", cond, g)
 		base := machine.Entry{Source: src, SourceSHA256: fmt.Sprintf("src%02d", g), Machine: "pump-a1", Condition: cond,
 			Label: machine.LabelNormal, Group: src, Speed: 1, SampleRate: fs}
@@ -60,7 +61,7 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 		aug := base
 		aug.Path, aug.Origin, aug.Variant, aug.Speed = fmt.Sprintf("pump-a1/%s/rec%02d-c0-v1.wav", cond, g), machine.OriginAugmented, 1, 1.01
 		aug.Backgrounds = []string{trainBG}
-		write(aug, applyGain(x, -3))
+		write(aug, synthtest.Gain(x, -3))
 	}
 	if err := os.WriteFile(filepath.Join(dir, "pump-a1", "ledger.jsonl"), ledger.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
@@ -155,7 +156,7 @@ func TestAuditLeaks(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	leak := applyShift(applyGain(a.Mono(nil), 4), 2000)
+	leak := synthtest.Shift(synthtest.Gain(a.Mono(nil), 4), 2000)
 	leakPath := "pump-a1/nominal/extra-take.wav"
 	if err := wavio.WriteFile(filepath.Join(dir, leakPath), leak, 16000, 1, wavio.PCM16); err != nil {
 		t.Fatal(err)
@@ -239,22 +240,22 @@ func TestAuditLeaks(t *testing.T) {
 func TestAuditLists(t *testing.T) {
 	dir := t.TempDir()
 	rng := rand.New(rand.NewPCG(9, 10))
-	mm := newMachineModel(rng, 16000)
+	mm := synthtest.NewMachine(rng, 16000)
 	var train, eval []string
 	for i := range 8 {
-		x := mm.record(rng, 10)
+		x := mm.Record(rng, 10)
 		p := filepath.Join(dir, fmt.Sprintf("train%d.wav", i))
 		wavio.WriteFile(p, x, 16000, 1, wavio.PCM16)
 		train = append(train, p)
 		if i < 2 { // two leaked copies after noise at 10 dB SNR
 			q := filepath.Join(dir, fmt.Sprintf("eval-leak%d.wav", i))
-			wavio.WriteFile(q, applyNoise(x, rng, 10), 16000, 1, wavio.PCM16)
+			wavio.WriteFile(q, synthtest.Noise(x, rng, 10), 16000, 1, wavio.PCM16)
 			eval = append(eval, q)
 		}
 	}
 	for i := range 6 {
 		q := filepath.Join(dir, fmt.Sprintf("eval%d.wav", i))
-		wavio.WriteFile(q, mm.record(rng, 10), 16000, 1, wavio.PCM16)
+		wavio.WriteFile(q, mm.Record(rng, 10), 16000, 1, wavio.PCM16)
 		eval = append(eval, q)
 	}
 	bad := filepath.Join(dir, "eval-bad.wav")

@@ -96,57 +96,10 @@
 // disk with the ledgers' recorded clips. AuditLists runs the duplicate rules
 // alone on two sets of plain files, with no ledger.
 //
-// # Near-duplicate fingerprint
-//
-// The print follows J. Haitsma & T. Kalker (2002), "A highly robust audio
-// fingerprinting system", Proc. ISMIR (from memory): 32 bits per frame from the signs of
-// time-and-frequency differences of band energies,
-//
-//	F(t,m) = 1  if  [E(t+L,m) − E(t+L,m+1)] − [E(t,m) − E(t,m+1)] > 0,
-//
-// with these parameters: frames of 2^⌈log2(0.03·fs)⌉ samples (512 at
-// 16 kHz), periodic Hann window, hop half a frame (16 ms); 33 bands equally
-// spaced in mel (2595·log10(1 + f/700)) from 300 Hz to min(6 kHz, 0.45 fs);
-// E smoothed over 32 frames (~0.5 s) with Hann weights; lag L = 4 frames.
-// The smoothing replaces Haitsma & Kalker's long overlapping frames at a
-// fraction of the FFT cost. Why this method: distinct recordings of one
-// machine share its harmonic lines and long-term spectrum; the double
-// difference cancels everything steady (lines, spectrum shape, gain), so the
-// bits follow the slow fluctuations of that recording's noise and impacts,
-// which differ between recordings. Spectral-peak landmarks (A. Wang 2003,
-// "An industrial-strength audio search algorithm", Proc. ISMIR)
-// would key on the machine's steady lines instead and match every recording
-// of the machine.
-//
 // # Near-duplicate search
 //
-// Index uses bit-sampling locality-sensitive hashing for the Hamming
-// distance (P. Indyk & R. Motwani 1998, "Approximate nearest neighbors:
-// towards removing the curse of dimensionality", STOC): 12 tables, each keyed by 14 bits sampled
-// at fixed random (frame, bit) positions inside a 64-frame window. Indexed
-// prints store every 4th window; a query probes every 2nd. Hits vote for (print, offset) in 16-frame bins, one saturating byte per
-// bin; keys held by more than 8 times the mean number of entries per key
-// (plus 64) are skipped, as a key that many windows share carries no
-// information. A print is a candidate when its best two neighbouring bins
-// hold at least m votes, m the larger of 4 and the smallest count that
-// fewer than 16 bin pairs would reach if the query's hits fell on the bins
-// at random (Poisson); the 64 candidates with most votes are verified.
-// Verification cuts the query into 64-frame blocks (~1 s), tables each
-// block's BER for offsets within ±20 frames of the candidate's, and takes
-// the best straight line through the table, o(b) = o0 + ρ·t_b with
-// |ρ| ≤ 3 % in 0.5 % steps (a constant shift plus the drift of a speed
-// change). A first pass on every second pair of frames rejects candidates
-// whose estimate exceeds MaxBER + 0.05. The mean BER along the best line at
-// or below MaxBER (default 0.39) is a match. Unrelated prints verify near
-// 0.5 and distinct recordings of one synthetic machine at 0.43 or more;
-// copies after ±6 dB gain, ±0.5 s shift, 10 dB SNR white noise or ±2 %
-// speed measure at most 0.33 in the package tests.
-//
-// Cost: memory is 4 bytes per table per stored window (8 when the print
-// number and frame need more than 32 bits) plus 4 bytes per frame, about
-// 9 KB per 10 s clip; each searcher holds 1 byte per indexed print per
-// 16-frame offset bin. A query touches every entry that shares one of its
-// keys, so its cost grows with the index size over 2^14: about 4 ms of one
-// core for 10 s clips against 8 500 indexed ones. Audit runs one Searcher
-// per worker.
+// The no-near-duplicate-across-splits rule fingerprints every listed file
+// and searches the training prints for each eval/test print with package
+// thrum/split/neardup, whose documentation describes the print, the index
+// and their cost.
 package split

@@ -1,4 +1,4 @@
-package split
+package neardup
 
 import (
 	"fmt"
@@ -6,11 +6,13 @@ import (
 	"runtime"
 	"sync"
 	"testing"
+
+	"thrum/split/internal/synthtest"
 )
 
 func BenchmarkFingerprint10s16k(b *testing.B) {
 	rng := rand.New(rand.NewPCG(1, 1))
-	x := newMachineModel(rng, 16000).record(rng, 10)
+	x := synthtest.NewMachine(rng, 16000).Record(rng, 10)
 	fp := NewFingerprinter(16000)
 	var p Print
 	b.SetBytes(int64(8 * len(x)))
@@ -46,14 +48,14 @@ func BenchmarkBoundarySearch10kParallel(b *testing.B) { benchBoundary(b, runtime
 func benchBoundary(b *testing.B, workers int) {
 	rng := rand.New(rand.NewPCG(2, 2))
 	const nTrain, nEval, nLeak, frames = 8500, 1500, 30, 590
-	mm := newMachineModel(rng, 16000)
+	mm := synthtest.NewMachine(rng, 16000)
 	fp := NewFingerprinter(16000)
 	train := make([]Print, nTrain)
 	eval := make([]Print, nEval)
 	for i := range nLeak {
-		x := mm.record(rng, 10)
+		x := mm.Record(rng, 10)
 		eval[i] = fp.Print(Print{}, x)
-		train[i*7] = fp.Print(Print{}, applyNoise(x, rng, 10))
+		train[i*7] = fp.Print(Print{}, synthtest.Noise(x, rng, 10))
 	}
 	for i := range train {
 		if train[i].Words == nil {

@@ -1,16 +1,20 @@
-package split
+// Package synthtest synthesises recordings of an invented rotating machine
+// and the transforms a leaked copy may have gone through (gain, shift,
+// noise, speed), for the tests and benchmarks of split and split/neardup.
+// Nothing outside tests imports it.
+package synthtest
 
 import (
 	"math"
 	"math/rand/v2"
 )
 
-// machineModel is a synthetic rotating machine used only by the tests: the
+// Machine is a synthetic rotating machine used only by the tests: the
 // harmonics of a shaft rate, a vane-pass line, noise through structural
 // resonances and one impact per revolution exciting another resonance. All
 // recordings of one model share its lines and resonances; each recording has
 // its own noise, phases and a small speed offset.
-type machineModel struct {
+type Machine struct {
 	fs       float64
 	shaftHz  float64
 	harm     []float64 // amplitude of shaft harmonic k+1
@@ -22,8 +26,9 @@ type machineModel struct {
 
 type resonator struct{ hz, r, gain float64 }
 
-func newMachineModel(rng *rand.Rand, fs float64) *machineModel {
-	m := &machineModel{fs: fs, shaftHz: 20 + 10*rng.Float64(), impactHz: 2000 + 1500*rng.Float64()}
+// NewMachine draws a machine model for sample rate fs from rng.
+func NewMachine(rng *rand.Rand, fs float64) *Machine {
+	m := &Machine{fs: fs, shaftHz: 20 + 10*rng.Float64(), impactHz: 2000 + 1500*rng.Float64()}
 	for k := 1; k <= 40; k++ {
 		a := 0.08 / float64(k) * (0.5 + rng.Float64())
 		if k == 7 || k == 14 { // vane pass and its second harmonic
@@ -39,11 +44,11 @@ func newMachineModel(rng *rand.Rand, fs float64) *machineModel {
 	return m
 }
 
-// record synthesises one recording of seconds length. Component levels (RMS):
+// Record synthesises one recording of seconds length. Component levels (RMS):
 // lines 0.1, resonant noise 0.08, impacts 0.04, broadband floor 0.02, so the
 // steady lines carry about half the power, as in many rotating machines
 // (common practice).
-func (m *machineModel) record(rng *rand.Rand, seconds float64) []float64 {
+func (m *Machine) Record(rng *rand.Rand, seconds float64) []float64 {
 	n := int(seconds * m.fs)
 	x := make([]float64, n)
 	f0 := m.shaftHz * (1 + 0.004*(rng.Float64()-0.5))
@@ -89,7 +94,7 @@ func (m *machineModel) record(rng *rand.Rand, seconds float64) []float64 {
 
 // addScaled adds y to x scaled to RMS level.
 func addScaled(x, y []float64, level float64) {
-	g := level / rms(y)
+	g := level / RMS(y)
 	for i, v := range y {
 		x[i] += g * v
 	}
@@ -116,7 +121,8 @@ func ring(x, in []float64, hz, r, fs float64) {
 	}
 }
 
-func rms(x []float64) float64 {
+// RMS returns the root mean square of x.
+func RMS(x []float64) float64 {
 	var s float64
 	for _, v := range x {
 		s += v * v
@@ -124,7 +130,8 @@ func rms(x []float64) float64 {
 	return math.Sqrt(s / float64(len(x)))
 }
 
-func applyGain(x []float64, db float64) []float64 {
+// Gain returns x scaled by db decibels.
+func Gain(x []float64, db float64) []float64 {
 	g := math.Pow(10, db/20)
 	y := make([]float64, len(x))
 	for i, v := range x {
@@ -133,8 +140,8 @@ func applyGain(x []float64, db float64) []float64 {
 	return y
 }
 
-// applyShift delays (s > 0) or advances x by s samples, zero-filling.
-func applyShift(x []float64, s int) []float64 {
+// Shift delays (s > 0) or advances x by s samples, zero-filling.
+func Shift(x []float64, s int) []float64 {
 	y := make([]float64, len(x))
 	for i := range y {
 		if j := i - s; j >= 0 && j < len(x) {
@@ -144,9 +151,9 @@ func applyShift(x []float64, s int) []float64 {
 	return y
 }
 
-// applyNoise adds white Gaussian noise at snr dB relative to the mean square of x.
-func applyNoise(x []float64, rng *rand.Rand, snr float64) []float64 {
-	s := rms(x) * math.Pow(10, -snr/20)
+// Noise adds white Gaussian noise at snr dB relative to the mean square of x.
+func Noise(x []float64, rng *rand.Rand, snr float64) []float64 {
+	s := RMS(x) * math.Pow(10, -snr/20)
 	y := make([]float64, len(x))
 	for i, v := range x {
 		y[i] = v + s*rng.NormFloat64()
@@ -154,9 +161,9 @@ func applyNoise(x []float64, rng *rand.Rand, snr float64) []float64 {
 	return y
 }
 
-// applySpeed plays x at ratio r (r > 1 faster and higher) by linear
+// Speed plays x at ratio r (r > 1 faster and higher) by linear
 // interpolation: y[i] = x(i·r). Every line moves by r, duration by 1/r.
-func applySpeed(x []float64, r float64) []float64 {
+func Speed(x []float64, r float64) []float64 {
 	n := int(float64(len(x)-1) / r)
 	y := make([]float64, n)
 	for i := range y {

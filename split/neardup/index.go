@@ -1,4 +1,4 @@
-package split
+package neardup
 
 import (
 	"encoding/binary"
@@ -9,7 +9,7 @@ import (
 	"sort"
 )
 
-// Index parameters (see doc.go, "Near-duplicate search").
+// Index parameters (see doc.go, "Index and search").
 const (
 	// ixTables is the number of hash tables; each samples ixKeyBits bits.
 	ixTables = 12
@@ -240,7 +240,7 @@ func (ix *Index) build() {
 func (s *Searcher) Query(p Print) []Match {
 	ix := s.ix
 	if ix.built != len(ix.ids) {
-		panic("split: Searcher used after Index.Add; make a new searcher")
+		panic("neardup: Searcher used after Index.Add; make a new searcher")
 	}
 	w := p.Words
 	if len(w) < ixSpan || len(ix.ids) == 0 {

@@ -1,10 +1,12 @@
-package split
+package neardup
 
 import (
 	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"thrum/split/internal/synthtest"
 )
 
 // TestNearDuplicateSearch injects transformed copies of recordings into the
@@ -13,11 +15,11 @@ import (
 func TestNearDuplicateSearch(t *testing.T) {
 	const fs, n = 16000.0, 60
 	rng := rand.New(rand.NewPCG(11, 12))
-	m := newMachineModel(rng, fs)
+	m := synthtest.NewMachine(rng, fs)
 	fp := NewFingerprinter(fs)
 	recs := make([][]float64, n)
 	for i := range recs {
-		recs[i] = m.record(rng, 10)
+		recs[i] = m.Record(rng, 10)
 	}
 	// Index holds transformed copies of every recording ("leaked into
 	// training"); queries are the originals ("eval").
@@ -26,13 +28,13 @@ func TestNearDuplicateSearch(t *testing.T) {
 		f    func(x []float64, i int) []float64
 	}
 	trs := []tr{
-		{"gain", func(x []float64, i int) []float64 { return applyGain(x, []float64{-6, 6}[i%2]) }},
-		{"shift", func(x []float64, i int) []float64 { return applyShift(x, []int{-8000, 8000}[i%2]) }},
-		{"noise", func(x []float64, i int) []float64 { return applyNoise(x, rng, 10) }},
-		{"speed", func(x []float64, i int) []float64 { return applySpeed(x, []float64{0.98, 1.02}[i%2]) }},
+		{"gain", func(x []float64, i int) []float64 { return synthtest.Gain(x, []float64{-6, 6}[i%2]) }},
+		{"shift", func(x []float64, i int) []float64 { return synthtest.Shift(x, []int{-8000, 8000}[i%2]) }},
+		{"noise", func(x []float64, i int) []float64 { return synthtest.Noise(x, rng, 10) }},
+		{"speed", func(x []float64, i int) []float64 { return synthtest.Speed(x, []float64{0.98, 1.02}[i%2]) }},
 		{"all four", func(x []float64, i int) []float64 {
-			y := applySpeed(applyShift(applyGain(x, []float64{-6, 6}[i%2]), []int{-8000, 8000}[i%2]), []float64{0.98, 1.02}[i%2])
-			return applyNoise(y, rng, 10)
+			y := synthtest.Speed(synthtest.Shift(synthtest.Gain(x, []float64{-6, 6}[i%2]), []int{-8000, 8000}[i%2]), []float64{0.98, 1.02}[i%2])
+			return synthtest.Noise(y, rng, 10)
 		}},
 	}
 	// Verified BER between distinct recordings of the same machine, at any
@@ -118,8 +120,8 @@ func TestFingerprintShape(t *testing.T) {
 	}
 	// Gain leaves every bit unchanged (the bits are signs of energy
 	// differences, which a gain scales by g²).
-	x := newMachineModel(rng, 16000).record(rng, 2)
-	a, b := fp.Print(Print{}, x), fp.Print(Print{}, applyGain(x, -12))
+	x := synthtest.NewMachine(rng, 16000).Record(rng, 2)
+	a, b := fp.Print(Print{}, x), fp.Print(Print{}, synthtest.Gain(x, -12))
 	if e, _ := ber(a.Words, b.Words, 0); e != 0 {
 		t.Errorf("gain changes %.4f of the bits", e)
 	}

@@ -1,4 +1,4 @@
-package split
+package neardup
 
 import (
 	"math"
@@ -7,7 +7,7 @@ import (
 	"thrum/machine/dsp"
 )
 
-// Fingerprint parameters (see doc.go, "Near-duplicate fingerprint").
+// Fingerprint parameters (see doc.go, "Fingerprint").
 const (
 	// fpFrameSeconds is the analysis frame; it is rounded up to a power of
 	// two in samples (512 at 16 kHz).
@@ -56,7 +56,7 @@ type Fingerprinter struct {
 // bandwidth).
 func NewFingerprinter(fs float64) *Fingerprinter {
 	if !(fs >= 4000) {
-		panic("split: fingerprint sample rate below 4 kHz")
+		panic("neardup: fingerprint sample rate below 4 kHz")
 	}
 	n := 1
 	for float64(n) < fpFrameSeconds*fs {
