@@ -9,7 +9,6 @@ import (
 	"errors"
 	"fmt"
 	"hash/fnv"
-	"os"
 	"path"
 	"path/filepath"
 	"runtime"
@@ -19,6 +18,7 @@ import (
 
 	"thrum/augment/room"
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/machine/wavio"
 )
 
@@ -91,7 +91,7 @@ type Summary struct {
 // its recipe's variants. A rerun verifies and skips outputs whose ledger
 // entry and file hash match, so an interrupted run resumes to the same result.
 func Expand(ctx context.Context, inv *machine.Inventory, opt Options) ([]Summary, error) {
-	return runStage(ctx, inv, opt, "expand")
+	return runStage(ctx, inv, opt, ledger.Expand)
 }
 
 type job struct {
@@ -103,12 +103,12 @@ type job struct {
 
 type jobResult struct {
 	job     job
-	entries []machine.Entry
+	entries []ledger.Entry
 	reused  int
 	err     error
 }
 
-func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage string) ([]Summary, error) {
+func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage ledger.Stage) ([]Summary, error) {
 	p := inv.Plant
 	if opt.Out == "" {
 		return nil, errors.New("augment: no output folder")
@@ -142,17 +142,17 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 	}
 	// previous entries, for resuming
 	for id, e := range envs {
-		old, err := machine.LoadLedger(filepath.Join(opt.Out, id))
+		old, err := ledger.Load(filepath.Join(opt.Out, id))
 		if err != nil {
 			return nil, err
 		}
-		e.previous = map[string]machine.Entry{}
+		e.previous = map[string]ledger.Entry{}
 		for _, x := range old {
 			if x.Stage == stage {
 				e.previous[entryKey(x)] = x
 			}
 		}
-		j, err := machine.OpenJournal(filepath.Join(opt.Out, id), journalName(stage, opt.Shard))
+		j, err := ledger.OpenJournal(filepath.Join(opt.Out, id), stage, ledger.Shard(opt.Shard))
 		if err != nil {
 			return nil, err
 		}
@@ -172,7 +172,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 			for j := range in {
 				e := envs[j.m.ID]
 				var r jobResult
-				if stage == "faults" {
+				if stage == ledger.Faults {
 					r = e.faultJob(ctx, j)
 				} else {
 					r = e.expandJob(ctx, j)
@@ -197,7 +197,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 	}()
 	go func() { wg.Wait(); close(out) }()
 
-	results := make([][]machine.Entry, len(jobs))
+	results := make([][]ledger.Entry, len(jobs))
 	sums := map[string]*Summary{}
 	var firstErr error
 	done, written, rejected := 0, 0, 0
@@ -218,7 +218,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 		s.Clips += len(r.job.rec.Clips)
 		s.Reused += r.reused
 		for _, e := range r.entries {
-			if e.Kind == machine.EntryRejected {
+			if e.Kind == ledger.KindRejected {
 				s.Rejected[e.Reason]++
 				rejected++
 				continue
@@ -236,7 +236,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 		}
 		done++
 		if opt.Progress != nil {
-			opt.Progress(Event{Stage: stage, Machine: r.job.m.ID, Done: done, Total: len(jobs), Unit: "recordings", Written: written, Rejected: rejected, Path: r.job.rec.Rel})
+			opt.Progress(Event{Stage: string(stage), Machine: r.job.m.ID, Done: done, Total: len(jobs), Unit: "recordings", Written: written, Rejected: rejected, Path: r.job.rec.Rel})
 		}
 	}
 	if firstErr != nil {
@@ -246,7 +246,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 		return nil, err
 	}
 	// commit each machine's section in job order
-	byMachine := map[string][]machine.Entry{}
+	byMachine := map[string][]ledger.Entry{}
 	for i, j := range jobs {
 		byMachine[j.m.ID] = append(byMachine[j.m.ID], results[i]...)
 	}
@@ -268,40 +268,18 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage st
 	return out2, nil
 }
 
-func journalName(stage string, s Shard) string {
-	if s.N > 1 {
-		return fmt.Sprintf("%s-%d-of-%d", stage, s.I, s.N)
-	}
-	return stage
+// commit writes the stage's section in canonical order: the whole ledger
+// when unsharded, a ledger part when sharded (joined later by ledger.Merge).
+func commit(opt Options, m *machine.Machine, stage ledger.Stage, entries []ledger.Entry) error {
+	ledger.Sort(m, entries)
+	return ledger.Commit(filepath.Join(opt.Out, m.ID), stage, ledger.Shard(opt.Shard), entries)
 }
 
-// commit writes the stage's section: the whole ledger when unsharded, a
-// ledger part when sharded (joined later by MergeShards).
-func commit(opt Options, m *machine.Machine, stage string, entries []machine.Entry) error {
-	SortEntries(m, entries)
-	dir := filepath.Join(opt.Out, m.ID)
-	if opt.Shard.N <= 1 {
-		return machine.CommitStage(dir, stage, entries)
-	}
-	var buf bytes.Buffer
-	enc := json.NewEncoder(&buf)
-	for i := range entries {
-		if err := enc.Encode(&entries[i]); err != nil {
-			return err
-		}
-	}
-	name := fmt.Sprintf("part-%s-%d-of-%d.jsonl", stage, opt.Shard.I, opt.Shard.N)
-	if err := machine.WriteFileAtomic(filepath.Join(dir, "parts", name), buf.Bytes()); err != nil {
-		return err
-	}
-	return os.Remove(filepath.Join(dir, ".journal-"+journalName(stage, opt.Shard)+".jsonl"))
-}
-
-func entryKey(e machine.Entry) string {
+func entryKey(e ledger.Entry) string {
 	return fmt.Sprintf("%s|%d|%s|%d|%s", e.Source, e.Clip, e.Origin, e.Variant, faultKind(e))
 }
 
-func faultKind(e machine.Entry) string {
+func faultKind(e ledger.Entry) string {
 	if e.Fault != nil {
 		return e.Fault.Kind
 	}
@@ -356,8 +334,8 @@ type env struct {
 	holdOut  [][2]float64
 	bgIDs    []string
 	bgFrames map[string]int64
-	previous map[string]machine.Entry
-	journal  *machine.Journal
+	previous map[string]ledger.Entry
+	journal  *ledger.Journal
 
 	plans *Plans
 
@@ -447,7 +425,7 @@ func toRoom(pr *machine.Room) (room.Room, error) {
 	return r, r.Validate()
 }
 
-func drawHash(steps []machine.StepRecord) string {
+func drawHash(steps []ledger.StepRecord) string {
 	b, _ := json.Marshal(steps)
 	s := sha256.Sum256(b)
 	return hex.EncodeToString(s[:8])
@@ -455,20 +433,20 @@ func drawHash(steps []machine.StepRecord) string {
 
 // reusable returns a previous entry when it still describes this output and
 // its file on disk hashes to the recorded value.
-func (e *env) reusable(want machine.Entry) (machine.Entry, bool) {
+func (e *env) reusable(want ledger.Entry) (ledger.Entry, bool) {
 	old, ok := e.previous[entryKey(want)]
 	if !ok || old.Seed != want.Seed || old.Draw != want.Draw || old.SourceSHA256 != want.SourceSHA256 {
-		return machine.Entry{}, false
+		return ledger.Entry{}, false
 	}
-	if old.Kind == machine.EntryRejected {
+	if old.Kind == ledger.KindRejected {
 		return old, true
 	}
 	if old.Path != want.Path {
-		return machine.Entry{}, false
+		return ledger.Entry{}, false
 	}
 	sum, err := machine.HashFile(filepath.Join(e.opt.Out, filepath.FromSlash(old.Path)))
 	if err != nil || sum != old.SHA256 {
-		return machine.Entry{}, false
+		return ledger.Entry{}, false
 	}
 	return old, true
 }
@@ -491,9 +469,9 @@ func (e *env) write(rel string, x []float64) (string, error) {
 	return hex.EncodeToString(s[:]), nil
 }
 
-func (e *env) base(r *machine.Recording, c machine.Clip) machine.Entry {
-	return machine.Entry{
-		Kind: machine.EntryOutput, Source: r.Rel, SourceSHA256: r.SHA256, Clip: c.Index,
+func (e *env) base(r *machine.Recording, c machine.Clip) ledger.Entry {
+	return ledger.Entry{
+		Kind: ledger.KindOutput, Source: r.Rel, SourceSHA256: r.SHA256, Clip: c.Index,
 		ClipStart: c.Start, ClipFrames: c.Frames, Machine: r.Machine, Condition: r.Condition,
 		Label: r.Label, Group: r.Group, SampleRate: e.p.SampleRate, Speed: 1, Scale: 1, Tool: machine.ToolVersion,
 	}
@@ -516,7 +494,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 			return err
 		}
 		ent := e.base(r, c)
-		ent.Stage = "expand"
+		ent.Stage = ledger.Expand
 		ent.Origin = machine.OriginRecorded
 		ent.Variant = -1
 		ent.Seed = 0
@@ -548,7 +526,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 
 // reuse appends a previous entry that still describes want (same draw,
 // seed, source and file hash) and reports whether it did.
-func (e *env) reuse(res *jobResult, want machine.Entry) bool {
+func (e *env) reuse(res *jobResult, want ledger.Entry) bool {
 	old, ok := e.reusable(want)
 	if ok {
 		res.entries = append(res.entries, old)
@@ -559,8 +537,8 @@ func (e *env) reuse(res *jobResult, want machine.Entry) bool {
 
 // emit writes y for an output entry (a rejected one has no file), then
 // journals the entry and appends it to the job's result.
-func (e *env) emit(res *jobResult, ent machine.Entry, y []float64) error {
-	if ent.Kind == machine.EntryOutput {
+func (e *env) emit(res *jobResult, ent ledger.Entry, y []float64) error {
+	if ent.Kind == ledger.KindOutput {
 		sum, err := e.write(ent.Path, y)
 		if err != nil {
 			return err
@@ -576,16 +554,16 @@ func (e *env) emit(res *jobResult, ent machine.Entry, y []float64) error {
 
 // variant draws variant v of a clip and returns its ledger entry as far as
 // the draw determines it (no samples computed).
-func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st string) machine.Entry {
+func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st string) ledger.Entry {
 	r := j.rec
 	seed := VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "variant")
 	drawn := Draw(recipe, NewRand(seed), e.drawContext(j, c))
-	recs := make([]machine.StepRecord, len(drawn))
+	recs := make([]ledger.StepRecord, len(drawn))
 	for i := range drawn {
 		recs[i] = drawn[i].Record
 	}
 	ent := e.base(r, c)
-	ent.Stage = "expand"
+	ent.Stage = ledger.Expand
 	ent.Origin = machine.OriginAugmented
 	ent.Variant = v
 	ent.Seed = seed
@@ -601,7 +579,7 @@ func (e *env) drawContext(j job, c machine.Clip) DrawContext {
 
 // render computes variant v of a clip: the samples and the complete entry
 // (measured values, clip-protection scale, or the rejection reason).
-func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) ([]float64, machine.Entry) {
+func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) ([]float64, ledger.Entry) {
 	ent := e.variant(j, recipe, c, v, st)
 	drawn := Draw(recipe, NewRand(ent.Seed), e.drawContext(j, c))
 	y, applied, reason := e.apply(ws, x, drawn, j.c)
@@ -613,7 +591,7 @@ func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Cli
 		}
 	}
 	if reason != "" {
-		ent.Kind = machine.EntryRejected
+		ent.Kind = ledger.KindRejected
 		ent.Reason = reason
 		ent.Path = ""
 		return nil, ent

@@ -8,6 +8,7 @@ import (
 
 	"thrum/augment/fault"
 	"thrum/machine"
+	"thrum/machine/ledger"
 )
 
 // Faults runs the faults stage: for every normal clip of a non-hold-out
@@ -17,7 +18,7 @@ import (
 // condition's rpm times the speed ratio drawn for the fault file (inside the
 // condition's band, out of hold-out bands), applied to the clip first.
 func Faults(ctx context.Context, inv *machine.Inventory, opt Options) ([]Summary, error) {
-	return runStage(ctx, inv, opt, "faults")
+	return runStage(ctx, inv, opt, ledger.Faults)
 }
 
 func (e *env) faultJob(ctx context.Context, j job) jobResult {
@@ -67,7 +68,7 @@ type faultDrawn struct {
 
 // faultDraw draws fault file k of kind (index ki) for a clip and returns its
 // entry as far as the draw determines it.
-func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (machine.Entry, *faultDrawn, error) {
+func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (ledger.Entry, *faultDrawn, error) {
 	r := j.rec
 	plan := j.m.Faults
 	// The speed of a fault file is drawn like the recipe's speed step (its
@@ -89,27 +90,27 @@ func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (mach
 	d.resHz = uniform(rng, plan.ResonanceHz, 0)
 	cue, label, err := e.cue(kind, j, d.ratio, d.sev, d.resHz, rng)
 	if err != nil {
-		return machine.Entry{}, nil, fmt.Errorf("machine %s fault %s: %w", j.m.ID, kind, err)
+		return ledger.Entry{}, nil, fmt.Errorf("machine %s fault %s: %w", j.m.ID, kind, err)
 	}
 	d.cue = cue
-	steps := []machine.StepRecord{{Kind: "speed", Params: map[string]float64{"ratio": d.ratio, "percent": (d.ratio - 1) * 100}}}
+	steps := []ledger.StepRecord{{Kind: "speed", Params: map[string]float64{"ratio": d.ratio, "percent": (d.ratio - 1) * 100}}}
 	ent := e.base(r, c)
-	ent.Stage = "faults"
+	ent.Stage = ledger.Faults
 	ent.Origin = machine.OriginSyntheticFault
 	ent.Label = machine.LabelAnomalous
 	ent.Variant = v
 	ent.Seed = seed
 	ent.Speed = d.ratio
 	ent.Steps = steps
-	ent.Fault = &machine.FaultRecord{Kind: kind, Frequencies: label.Frequencies, ShaftHz: label.ShaftHz,
+	ent.Fault = &ledger.FaultRecord{Kind: kind, Frequencies: label.Frequencies, ShaftHz: label.ShaftHz,
 		SeverityDB: d.sev, ResonanceHz: label.ResonanceHz, Seed: seed}
-	ent.Draw = drawHash(append(steps, machine.StepRecord{Kind: kind, Params: map[string]float64{"severity_db": d.sev, "resonance_hz": d.resHz}}))
+	ent.Draw = drawHash(append(steps, ledger.StepRecord{Kind: kind, Params: map[string]float64{"severity_db": d.sev, "resonance_hz": d.resHz}}))
 	ent.Path = fmt.Sprintf("%s/%s/faults/%s-c%04d-%s-%02d.wav", r.Machine, r.Condition, st, c.Index, kind, k)
 	return ent, d, nil
 }
 
 // faultRender computes a fault file: the clip at the drawn speed plus the cue.
-func (e *env) faultRender(j job, c machine.Clip, x []float64, ki, k int, kind, st string) ([]float64, machine.Entry, error) {
+func (e *env) faultRender(j job, c machine.Clip, x []float64, ki, k int, kind, st string) ([]float64, ledger.Entry, error) {
 	ent, d, err := e.faultDraw(j, c, ki, k, kind, st)
 	if err != nil {
 		return nil, ent, err
@@ -117,7 +118,7 @@ func (e *env) faultRender(j job, c machine.Clip, x []float64, ki, k int, kind, s
 	y := Speed{Ratio: d.ratio, Plans: e.plans}.Apply(nil, x, e.fs)
 	y, _, err = fault.Add(y, y, e.fs, d.cue, d.rng)
 	if err != nil {
-		ent.Kind = machine.EntryRejected
+		ent.Kind = ledger.KindRejected
 		ent.Reason = RejectSilent
 		ent.Path = ""
 		return nil, ent, nil

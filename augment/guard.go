@@ -6,6 +6,7 @@ import (
 
 	"thrum/augment/room"
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/machine/wavio"
 )
 
@@ -28,10 +29,10 @@ type workspace struct {
 // against the credibility guard. It returns the output, the step records
 // with values measured while applying (re-measured SNR, RT60, gains), and a
 // rejection reason ("" when the variant is credible).
-func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condition) ([]float64, []machine.StepRecord, string) {
+func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condition) ([]float64, []ledger.StepRecord, string) {
 	cur := append(ws.a[:0], x...)
 	ws.a = cur
-	recs := make([]machine.StepRecord, 0, len(drawn))
+	recs := make([]ledger.StepRecord, 0, len(drawn))
 	reason := ""
 	for _, d := range drawn {
 		rec := cloneRecord(d.Record)
@@ -145,7 +146,7 @@ func (w *workspace) keep(cur, out []float64) {
 	}
 }
 
-func cloneRecord(r machine.StepRecord) machine.StepRecord {
+func cloneRecord(r ledger.StepRecord) ledger.StepRecord {
 	c := r
 	if r.Params != nil {
 		c.Params = make(map[string]float64, len(r.Params)+4)

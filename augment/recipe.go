@@ -9,6 +9,7 @@ import (
 	"sort"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 )
 
 // VariantSeed derives a variant's seed from the plant seed, the machine id,
@@ -31,7 +32,7 @@ func NewRand(seed uint64) *rand.Rand {
 // Drawn is one step of a variant with its exact drawn parameters.
 type Drawn struct {
 	Step   *machine.Step
-	Record machine.StepRecord
+	Record ledger.StepRecord
 }
 
 // DrawContext is what drawing needs besides the recipe.
@@ -75,7 +76,7 @@ func Draw(r *machine.Recipe, rng *rand.Rand, dc DrawContext) []Drawn {
 	out := make([]Drawn, 0, k)
 	for _, i := range idx {
 		s := &r.Steps[i]
-		rec := machine.StepRecord{Kind: s.Kind, Params: map[string]float64{}, Text: map[string]string{}}
+		rec := ledger.StepRecord{Kind: s.Kind, Params: map[string]float64{}, Text: map[string]string{}}
 		switch s.Kind {
 		case "speed":
 			pct := uniform(rng, s.Range, s.Increment)
@@ -217,7 +218,7 @@ func HoldOutBands(m *machine.Machine) [][2]float64 {
 }
 
 // SpeedOf returns the product of the speed ratios among drawn steps.
-func SpeedOf(steps []machine.StepRecord) float64 {
+func SpeedOf(steps []ledger.StepRecord) float64 {
 	r := 1.0
 	for _, s := range steps {
 		if s.Kind == "speed" {

@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 )
 
 func testRecipe() *machine.Recipe {
@@ -69,8 +70,8 @@ func TestDrawKeepsOrderRangesAndIsDeterministic(t *testing.T) {
 	}
 }
 
-func records(ds []Drawn) []machine.StepRecord {
-	out := make([]machine.StepRecord, len(ds))
+func records(ds []Drawn) []ledger.StepRecord {
+	out := make([]ledger.StepRecord, len(ds))
 	for i := range ds {
 		out[i] = ds[i].Record
 	}
@@ -117,34 +118,6 @@ func TestVariantSeedDependsOnEveryInput(t *testing.T) {
 			t.Errorf("input %d does not change the seed", i)
 		}
 	}
-}
-
-func TestSortEntriesCanonical(t *testing.T) {
-	m := &machine.Machine{Conditions: []machine.Condition{{Name: "b"}, {Name: "a"}}}
-	es := []machine.Entry{
-		{Condition: "a", Source: "x", Clip: 0, Variant: 0},
-		{Condition: "b", Source: "y", Clip: 1, Variant: -1},
-		{Condition: "b", Source: "y", Clip: 0, Variant: 1},
-		{Condition: "b", Source: "y", Clip: 0, Variant: -1},
-		{Condition: "b", Source: "x", Clip: 5, Variant: 0},
-	}
-	SortEntries(m, es)
-	want := []string{"b x 5 0", "b y 0 -1", "b y 0 1", "b y 1 -1", "a x 0 0"}
-	for i, e := range es {
-		if got := e.Condition + " " + e.Source + " " + itoa(e.Clip) + " " + itoa(e.Variant); got != want[i] {
-			t.Errorf("position %d: %s, want %s", i, got, want[i])
-		}
-	}
-}
-
-func itoa(i int) string {
-	if i < 0 {
-		return "-" + itoa(-i)
-	}
-	if i < 10 {
-		return string(rune('0' + i))
-	}
-	return itoa(i/10) + string(rune('0'+i%10))
 }
 
 func TestCheckOutputRefusesRecordingsRoot(t *testing.T) {

@@ -10,12 +10,13 @@ import (
 	"strings"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/machine/wavio"
 )
 
 // ReplayResult is the outcome of regenerating one output.
 type ReplayResult struct {
-	Entry machine.Entry
+	Entry ledger.Entry
 	// SHA256 is the hash of the regenerated file.
 	SHA256 string
 }
@@ -37,18 +38,18 @@ func Replay(inv *machine.Inventory, opt Options, rel string) (ReplayResult, erro
 	if m == nil {
 		return ReplayResult{}, fmt.Errorf("augment: replay: %s: no machine %q in the plant", rel, id)
 	}
-	entries, err := machine.LoadLedger(filepath.Join(opt.Out, id))
+	entries, err := ledger.Load(filepath.Join(opt.Out, id))
 	if err != nil {
 		return ReplayResult{}, err
 	}
-	var ent *machine.Entry
+	var ent *ledger.Entry
 	for i := range entries {
-		if entries[i].Path == rel && entries[i].Kind == machine.EntryOutput {
+		if entries[i].Path == rel && entries[i].Kind == ledger.KindOutput {
 			ent = &entries[i]
 		}
 	}
 	if ent == nil {
-		return ReplayResult{}, fmt.Errorf("augment: replay: %s: no ledger line in %s", rel, filepath.Join(opt.Out, id, machine.LedgerName))
+		return ReplayResult{}, fmt.Errorf("augment: replay: %s: no ledger line in %s", rel, filepath.Join(opt.Out, id, ledger.FileName))
 	}
 	var rec *machine.Recording
 	for _, r := range inv.Recordings {
@@ -69,7 +70,7 @@ func Replay(inv *machine.Inventory, opt Options, rel string) (ReplayResult, erro
 	j := job{rec: rec, m: m, c: m.Condition(rec.Condition)}
 	st := stem(rec)
 	var y []float64
-	var got machine.Entry
+	var got ledger.Entry
 	err = rec.ReadClips(func(c machine.Clip, x []float64) error {
 		if c.Index != ent.Clip {
 			return nil

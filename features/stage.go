@@ -22,6 +22,7 @@ import (
 	"math/rand/v2"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/machine/wavio"
 )
 
@@ -36,8 +37,10 @@ const (
 type Input struct {
 	// Path is the audio file relative to the output root (as in the ledger).
 	Path, SHA256                string
-	Machine, Condition, Split   string
-	Origin, Label               string
+	Machine, Condition          string
+	Split                       machine.Split
+	Origin                      machine.Origin
+	Label                       machine.Label
 	Source, SourceSHA256, Group string
 	Clip                        int
 }
@@ -136,7 +139,7 @@ type fileResult struct {
 	moments Moments
 	feat    []float32
 	frames  int
-	masked  []machine.Entry
+	masked  []ledger.Entry
 	reused  bool
 	err     error
 }
@@ -265,7 +268,7 @@ func pictureInputs(inputs []Input, setups map[string]machineSetup) map[int]bool 
 		if !setups[in.Machine].pictures {
 			continue
 		}
-		if _, ok := rec[in.Machine]; !ok && in.Origin == machine.OriginRecorded && in.Split == "train" && in.Label == machine.LabelNormal {
+		if _, ok := rec[in.Machine]; !ok && in.Origin == machine.OriginRecorded && in.Split == machine.SplitTrain && in.Label == machine.LabelNormal {
 			rec[in.Machine] = i
 			keep[i] = true
 		}
@@ -297,7 +300,7 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 		s := StageSummary{Machine: id}
 		st := setups[id]
 		acc := NewAccumulator(st.cfg.Bands)
-		var masked []machine.Entry
+		var masked []ledger.Entry
 		for _, i := range byMachine[id] {
 			r := all[i]
 			s.Files++
@@ -305,7 +308,7 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 				s.Reuse++
 			}
 			masked = append(masked, r.masked...)
-			if inputs[i].Split == "train" && inputs[i].Origin != machine.OriginSyntheticFault {
+			if inputs[i].Split == machine.SplitTrain && inputs[i].Origin != machine.OriginSyntheticFault {
 				if err := acc.AddMoments(inputs[i].Path, r.moments); err != nil {
 					return nil, err
 				}
@@ -321,7 +324,7 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 		if err := machine.WriteFileAtomic(filepath.Join(out, Dir, id, StatsFile), buf.Bytes()); err != nil {
 			return nil, err
 		}
-		if err := machine.CommitStage(filepath.Join(out, id), "features", masked); err != nil {
+		if err := ledger.Commit(filepath.Join(out, id), ledger.Features, ledger.Shard{}, masked); err != nil {
 			return nil, err
 		}
 		if st.stack {
@@ -430,7 +433,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 		return fail(err)
 	}
 	// masked copies: training clips only, never evaluation features
-	if in.Split == "train" {
+	if in.Split == machine.SplitTrain {
 		for k := 0; k < w.st.copies; k++ {
 			seed := maskSeed(p.Seed, in, k)
 			rng := rand.New(rand.NewPCG(seed, seed^0x9e3779b97f4a7c15))
@@ -454,12 +457,12 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 				params[fmt.Sprintf("time%d_start", i)] = float64(sp.Start)
 				params[fmt.Sprintf("time%d_width", i)] = float64(sp.Width)
 			}
-			res.masked = append(res.masked, machine.Entry{
-				Kind: machine.EntryOutput, Stage: "features", Path: mpath, SHA256: msum,
+			res.masked = append(res.masked, ledger.Entry{
+				Kind: ledger.KindOutput, Stage: ledger.Features, Path: mpath, SHA256: msum,
 				Source: in.Source, SourceSHA256: in.SourceSHA256, Clip: in.Clip, Machine: in.Machine,
 				Condition: in.Condition, Origin: machine.OriginAugmented, Label: in.Label, Group: in.Group,
 				Variant: k, Seed: seed, SampleRate: rate, Speed: 1, Scale: 1,
-				Steps: []machine.StepRecord{{Kind: "mask", Params: params, Text: map[string]string{"input": in.Path, "features": res.row.npy}}},
+				Steps: []ledger.StepRecord{{Kind: "mask", Params: params, Text: map[string]string{"input": in.Path, "features": res.row.npy}}},
 				Tool:  machine.ToolVersion,
 			})
 		}
@@ -494,7 +497,7 @@ func writeIndex(file string, all []fileResult) error {
 	f := func(x float64) string { return strconv.FormatFloat(x, 'g', 8, 64) }
 	for _, r := range all {
 		ro := r.row
-		w.Write([]string{ro.npy, ro.in.Path, ro.in.SHA256, ro.npySHA, ro.in.Machine, ro.in.Condition, ro.in.Split, ro.in.Origin, ro.in.Label,
+		w.Write([]string{ro.npy, ro.in.Path, ro.in.SHA256, ro.npySHA, ro.in.Machine, ro.in.Condition, string(ro.in.Split), string(ro.in.Origin), string(ro.in.Label),
 			strconv.Itoa(ro.frames), strconv.Itoa(ro.bands), ro.env, f(ro.envBinHz), f(finite(ro.sum.RMSdBFS)), f(finite(ro.sum.PeakdBFS)),
 			f(finite(ro.sum.CrestDB)), f(finite(ro.sum.Kurtosis)), f(finite(ro.sum.CentroidHz)), f(finite(ro.sum.FlatnessDB))})
 	}
@@ -539,7 +542,7 @@ func readIndex(file string) map[string]*indexRow {
 // writeStacks streams each split's feature arrays, read back from their
 // .npy files in index order, into one (rows, bands) array per split.
 func writeStacks(out, id string, bands int, inputs []Input, all []fileResult, idx []int) error {
-	for _, sp := range []string{"train", "eval", "test"} {
+	for _, sp := range []machine.Split{machine.SplitTrain, machine.SplitEval, machine.SplitTest} {
 		var files []string
 		for _, i := range idx {
 			if inputs[i].Split == sp {
@@ -549,7 +552,7 @@ func writeStacks(out, id string, bands int, inputs []Input, all []fileResult, id
 		if len(files) == 0 {
 			continue
 		}
-		sf, err := CreateStackFile(filepath.Join(out, Dir, id, "stack-"+sp+".npy"), bands)
+		sf, err := CreateStackFile(filepath.Join(out, Dir, id, "stack-"+string(sp)+".npy"), bands)
 		if err != nil {
 			return err
 		}
@@ -614,7 +617,7 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 	for _, i := range idx {
 		in := inputs[i]
 		switch {
-		case rec < 0 && in.Origin == machine.OriginRecorded && in.Split == "train" && in.Label == machine.LabelNormal:
+		case rec < 0 && in.Origin == machine.OriginRecorded && in.Split == machine.SplitTrain && in.Label == machine.LabelNormal:
 			rec = i
 		}
 	}
@@ -643,7 +646,7 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 		}
 	}
 	if flt >= 0 {
-		ents, err := machine.ReadLedgerFile(filepath.Join(out, id, machine.LedgerName))
+		ents, err := ledger.ReadFile(ledger.Path(out, id))
 		if err != nil {
 			return err
 		}

@@ -54,7 +54,7 @@ type Recording struct {
 	Rel string `json:"path"`
 	// Path is the file on disk.
 	Path    string `json:"-"`
-	Label   string `json:"label"`
+	Label   Label  `json:"label"`
 	Session string `json:"session,omitempty"`
 	// Group is the split unit: the session folder when there is one, else
 	// the recording itself.

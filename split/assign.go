@@ -9,19 +9,20 @@ import (
 	"strings"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 )
 
-// Split names.
-const (
-	Train    = "train"
-	Eval     = "eval"
-	Test     = "test"
-	Excluded = "excluded"
-)
+// Excluded is the split of a file kept out of every list: a derived file
+// of an eval/test group, or a training file mixed with a background that is
+// not a training background. Lists write it beside machine's splits.
+const Excluded machine.Split = "excluded"
 
 // Item is one output file as the split sees it.
 type Item struct {
-	Path, SHA256, Machine, Condition, Origin, Label, Group, Source, SourceSHA256 string
+	Path, SHA256, Machine, Condition string
+	Origin                           machine.Origin
+	Label                            machine.Label
+	Group, Source, SourceSHA256      string
 	// Speed is the total speed ratio applied (1 for a recorded clip).
 	Speed       float64
 	Backgrounds []string
@@ -30,13 +31,13 @@ type Item struct {
 // ItemsFromLedger turns the "output" lines of a ledger into items; other
 // lines, and the features stage's lines, are skipped. A missing Speed (0) is taken as 1, a missing Group as
 // the Source.
-func ItemsFromLedger(entries []machine.Entry) []Item {
+func ItemsFromLedger(entries []ledger.Entry) []Item {
 	var out []Item
 	for _, e := range entries {
 		// Features-stage lines name feature arrays (masked copies of a
 		// training clip's features), not audio: they follow their input
 		// clip's split and are checked against it by the audit.
-		if e.Kind != machine.EntryOutput || e.Stage == "features" {
+		if e.Kind != ledger.KindOutput || e.Stage == "features" {
 			continue
 		}
 		it := Item{
@@ -181,14 +182,14 @@ func Unit(seed uint64, kind, machineID, key string) float64 {
 }
 
 // pick maps u against the cumulative fractions.
-func pick(u float64, f Fractions) string {
+func pick(u float64, f Fractions) machine.Split {
 	switch {
 	case u < f.Train:
-		return Train
+		return machine.SplitTrain
 	case u < f.Train+f.Eval:
-		return Eval
+		return machine.SplitEval
 	default:
-		return Test
+		return machine.SplitTest
 	}
 }
 
@@ -196,7 +197,7 @@ func pick(u float64, f Fractions) string {
 // of a condition that is not held out: the stage drivers use it to make
 // variants and fault cues only for training groups (those of eval and test
 // groups would be excluded anyway).
-func (p Policy) NormalGroupSplit(machineID, group string) string {
+func (p Policy) NormalGroupSplit(machineID, group string) machine.Split {
 	f, err := p.FractionsFor(machineID)
 	if err != nil {
 		f = DefaultFractions
@@ -207,7 +208,7 @@ func (p Policy) NormalGroupSplit(machineID, group string) string {
 // Row is one item with its split. Reason says which rule decided it.
 type Row struct {
 	Item
-	Split  string
+	Split  machine.Split
 	Reason string
 }
 
@@ -222,12 +223,12 @@ const (
 
 // AssignBackgrounds partitions background ids with the default fractions,
 // by the same stable hash (kind "background", machine id empty).
-func AssignBackgrounds(ids []string, p Policy) map[string]string {
+func AssignBackgrounds(ids []string, p Policy) map[string]machine.Split {
 	f, err := p.FractionsFor("")
 	if err != nil {
 		f = DefaultFractions
 	}
-	out := make(map[string]string, len(ids))
+	out := make(map[string]machine.Split, len(ids))
 	for _, id := range ids {
 		out[id] = pick(Unit(p.Seed, "background", "", id), f)
 	}
@@ -284,7 +285,7 @@ func Assign(items []Item, p Policy) ([]Row, error) {
 		groups[k] = append(groups[k], i)
 	}
 	bg := AssignBackgrounds(p.Backgrounds, p)
-	bgSplit := func(id string) string {
+	bgSplit := func(id string) machine.Split {
 		if s, ok := bg[id]; ok {
 			return s
 		}
@@ -316,22 +317,22 @@ func Assign(items []Item, p Policy) ([]Row, error) {
 		split, reason := pick(u, f), ReasonHash
 		switch {
 		case holdOut:
-			split, reason = Test, ReasonHoldOut
+			split, reason = machine.SplitTest, ReasonHoldOut
 		case anomalous:
-			split, reason = Test, ReasonAnomalous
+			split, reason = machine.SplitTest, ReasonAnomalous
 			if u < f.AnomalousEval {
-				split = Eval
+				split = machine.SplitEval
 			}
 		}
 		for _, i := range idx {
 			it := items[i]
 			r := Row{Item: it, Split: split, Reason: reason}
-			if split != Train && it.Origin != machine.OriginRecorded {
+			if split != machine.SplitTrain && it.Origin != machine.OriginRecorded {
 				r.Split, r.Reason = Excluded, ReasonDerivedOfEval
 			}
-			if r.Split == Train {
+			if r.Split == machine.SplitTrain {
 				for _, b := range it.Backgrounds {
-					if bgSplit(b) != Train {
+					if bgSplit(b) != machine.SplitTrain {
 						r.Split, r.Reason = Excluded, ReasonBackground
 					}
 				}
@@ -364,11 +365,11 @@ func Assign(items []Item, p Policy) ([]Row, error) {
 	})
 	for _, k := range keys {
 		f, _ := p.FractionsFor(k.machine)
-		var need []string
+		var need []machine.Split
 		for _, s := range []struct {
-			name string
+			name machine.Split
 			v    float64
-		}{{Train, f.Train}, {Eval, f.Eval}, {Test, f.Test}} {
+		}{{machine.SplitTrain, f.Train}, {machine.SplitEval, f.Eval}, {machine.SplitTest, f.Test}} {
 			if s.v > 0 {
 				need = append(need, s.name)
 			}
@@ -386,12 +387,23 @@ func Assign(items []Item, p Policy) ([]Row, error) {
 type TooFewGroupsError struct {
 	Machine, Condition string
 	Groups             int
-	Splits             []string
+	Splits             []machine.Split
 }
 
 func (e *TooFewGroupsError) Error() string {
 	return fmt.Sprintf("split: machine %q condition %q: %d normal recording group(s) cannot fill the %d splits with a non-zero fraction (%s); record more sessions or set that split's fraction to 0",
-		e.Machine, e.Condition, e.Groups, len(e.Splits), strings.Join(e.Splits, ", "))
+		e.Machine, e.Condition, e.Groups, len(e.Splits), joinSplits(e.Splits))
+}
+
+func joinSplits(ss []machine.Split) string {
+	var b strings.Builder
+	for i, s := range ss {
+		if i > 0 {
+			b.WriteString(", ")
+		}
+		b.WriteString(string(s))
+	}
+	return b.String()
 }
 
 func sortRows(rows []Row) {
@@ -409,14 +421,14 @@ func sortRows(rows []Row) {
 // hash). The messages are meant as warnings.
 func EmptySplits(rows []Row, p Policy) []string {
 	type mc struct{ m, c string }
-	got := map[mc]map[string]bool{}
+	got := map[mc]map[machine.Split]bool{}
 	for _, r := range rows {
 		if r.Origin != machine.OriginRecorded || r.Label != machine.LabelNormal || r.Reason != ReasonHash {
 			continue
 		}
 		k := mc{r.Machine, r.Condition}
 		if got[k] == nil {
-			got[k] = map[string]bool{}
+			got[k] = map[machine.Split]bool{}
 		}
 		got[k][r.Split] = true
 	}
@@ -431,9 +443,9 @@ func EmptySplits(rows []Row, p Policy) []string {
 		}
 		have := got[mc{c.Machine, c.Name}]
 		for _, s := range []struct {
-			name string
+			name machine.Split
 			v    float64
-		}{{Train, f.Train}, {Eval, f.Eval}, {Test, f.Test}} {
+		}{{machine.SplitTrain, f.Train}, {machine.SplitEval, f.Eval}, {machine.SplitTest, f.Test}} {
 			if s.v > 0 && !have[s.name] {
 				out = append(out, fmt.Sprintf("machine %q condition %q: no %s group; the stable hash put every group elsewhere: add recordings or sessions", c.Machine, c.Name, s.name))
 			}

@@ -74,7 +74,7 @@ func checkRules(p Policy, items []Item, rows []Row) error {
 		return fmt.Errorf("%d rows for %d items", len(rows), len(items))
 	}
 	bg := AssignBackgrounds(p.Backgrounds, p)
-	groupSplit := map[string]string{}
+	groupSplit := map[string]machine.Split{}
 	for _, r := range rows {
 		c, _ := p.condition(r.Machine, r.Condition)
 		if r.Split == Excluded {
@@ -88,21 +88,21 @@ func checkRules(p Policy, items []Item, rows []Row) error {
 			return fmt.Errorf("group %s in %s and %s", k, s, r.Split)
 		}
 		groupSplit[k] = r.Split
-		if r.Split != Train && r.Origin != machine.OriginRecorded {
+		if r.Split != machine.SplitTrain && r.Origin != machine.OriginRecorded {
 			return fmt.Errorf("%s: %s in %s", r.Path, r.Origin, r.Split)
 		}
-		if r.Split == Train && r.Origin == machine.OriginRecorded && r.Label == machine.LabelAnomalous {
+		if r.Split == machine.SplitTrain && r.Origin == machine.OriginRecorded && r.Label == machine.LabelAnomalous {
 			return fmt.Errorf("%s: real anomaly in train", r.Path)
 		}
-		if c.HoldOut && r.Split != Test {
+		if c.HoldOut && r.Split != machine.SplitTest {
 			return fmt.Errorf("%s: hold-out condition in %s", r.Path, r.Split)
 		}
-		if r.Split == Train {
+		if r.Split == machine.SplitTrain {
 			if _, in := p.HoldOutBand(r.Machine, c.RPM*r.Speed); in {
 				return fmt.Errorf("%s: training speed in a hold-out band", r.Path)
 			}
 			for _, b := range r.Backgrounds {
-				if bg[b] != Train {
+				if bg[b] != machine.SplitTrain {
 					return fmt.Errorf("%s: training file with %s background", r.Path, bg[b])
 				}
 			}
@@ -111,7 +111,7 @@ func checkRules(p Policy, items []Item, rows []Row) error {
 	// Derived files of eval/test groups are excluded, never train.
 	for _, r := range rows {
 		if r.Origin != machine.OriginRecorded {
-			if s := groupSplit[r.Machine+"/"+r.Group]; s != Train && r.Split != Excluded {
+			if s := groupSplit[r.Machine+"/"+r.Group]; s != machine.SplitTrain && r.Split != Excluded {
 				return fmt.Errorf("%s: derived file of a %s group in %s", r.Path, s, r.Split)
 			}
 		}
@@ -159,7 +159,7 @@ func TestAssignStable(t *testing.T) {
 		if err != nil {
 			t.Fatalf("iteration %d: %v", it, err)
 		}
-		got := map[string]string{}
+		got := map[string]machine.Split{}
 		for _, r := range after {
 			got[r.Path] = r.Split
 		}
@@ -206,7 +206,7 @@ func TestAssignErrors(t *testing.T) {
 		}
 		var trainGroup string
 		for _, r := range rows {
-			if r.Split == Train {
+			if r.Split == machine.SplitTrain {
 				trainGroup = r.Group
 				break
 			}
@@ -246,12 +246,12 @@ func TestAssignErrors(t *testing.T) {
 // variable: 20 000 keys against 0.7/0.15/0.15 land within 1.5 % (about
 // 5 standard errors of a binomial proportion, common practice).
 func TestUnitFractions(t *testing.T) {
-	n := map[string]int{}
+	n := map[machine.Split]int{}
 	const N = 20000
 	for i := range N {
 		n[pick(Unit(3, "group", "m", fmt.Sprint(i)), DefaultFractions)]++
 	}
-	for s, want := range map[string]float64{Train: 0.7, Eval: 0.15, Test: 0.15} {
+	for s, want := range map[machine.Split]float64{machine.SplitTrain: 0.7, machine.SplitEval: 0.15, machine.SplitTest: 0.15} {
 		if got := float64(n[s]) / N; got < want-0.015 || got > want+0.015 {
 			t.Errorf("%s share %.4f, want %.2f", s, got, want)
 		}
@@ -348,7 +348,7 @@ func FuzzListsCSV(f *testing.F) {
 func TestEmptySplitsWarns(t *testing.T) {
 	p := Policy{Seed: 1, Default: Fractions{Train: 0.6, Eval: 0.2, Test: 0.2, AnomalousEval: 0.5},
 		Conditions: []ConditionPolicy{{Machine: "m", Name: "c", RPM: 1000}, {Machine: "m", Name: "h", RPM: 500, HoldOut: true}}}
-	rows := []Row{{Item: Item{Machine: "m", Condition: "c", Origin: "recorded", Label: "normal"}, Split: Train, Reason: ReasonHash}}
+	rows := []Row{{Item: Item{Machine: "m", Condition: "c", Origin: "recorded", Label: "normal"}, Split: machine.SplitTrain, Reason: ReasonHash}}
 	w := EmptySplits(rows, p)
 	if len(w) != 2 || !strings.Contains(w[0], "no eval group") || !strings.Contains(w[1], "no test group") {
 		t.Errorf("warnings %q", w)

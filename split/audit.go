@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/machine/wavio"
 	"thrum/split/neardup"
 )
@@ -173,15 +174,15 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	if err != nil {
 		return nil, err
 	}
-	entries, err := ReadLedgers(out)
+	entries, err := ledger.ReadTree(out)
 	if err != nil {
 		return nil, err
 	}
 	rep := &Report{}
-	byPath := map[string]machine.Entry{}
+	byPath := map[string]ledger.Entry{}
 	recordedHash := map[string]bool{}
 	for _, e := range entries {
-		if e.Kind != machine.EntryOutput {
+		if e.Kind != ledger.KindOutput {
 			continue
 		}
 		byPath[e.Path] = e
@@ -195,7 +196,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	if aerr != nil {
 		rep.add(RuleReDerived, "the ledgers cannot be assigned under plan.json: "+aerr.Error(), filepath.ToSlash(filepath.Join(SplitsDir, PlanFile)))
 	} else {
-		listed := map[string]string{}
+		listed := map[string]machine.Split{}
 		for _, r := range rows {
 			listed[r.Path] = r.Split
 		}
@@ -203,7 +204,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 			got, ok := listed[w.Path]
 			switch {
 			case !ok:
-				rep.add(RuleReDerived, "in the ledger but not in lists.csv (want "+w.Split+")", w.Path)
+				rep.add(RuleReDerived, "in the ledger but not in lists.csv (want "+string(w.Split)+")", w.Path)
 			case got != w.Split:
 				rep.add(RuleReDerived, fmt.Sprintf("listed in %s, re-derived assignment says %s (%s)", got, w.Split, w.Reason), w.Path)
 			}
@@ -235,10 +236,10 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 		} else if e.SHA256 != h {
 			rep.add(RuleListed, "sha256 on disk differs from the ledger's "+short(e.SHA256), r.Path)
 		}
-		if r.Split != Train {
+		if r.Split != machine.SplitTrain {
 			rep.ran(RuleRecordedEval, 1)
 			if !recordedHash[h] {
-				rep.add(RuleRecordedEval, r.Split+" file's content is not a recorded clip of any ledger", r.Path)
+				rep.add(RuleRecordedEval, string(r.Split)+" file's content is not a recorded clip of any ledger", r.Path)
 			}
 		}
 	}
@@ -257,7 +258,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	checkRows(rep, checked, plan, hashes)
 
 	// Statistics fitted on training only.
-	split := map[string]string{}
+	split := map[string]machine.Split{}
 	for _, r := range rows {
 		split[r.Path] = r.Split
 	}
@@ -279,11 +280,11 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 		}
 		rep.ran(RuleStats, 1)
 		for _, in := range st.Inputs {
-			if s := split[in]; s != Train {
+			if s := split[in]; s != machine.SplitTrain {
 				if s == "" {
 					s = "no split"
 				}
-				rep.add(RuleStats, "normalisation statistics fitted on a file of "+s, rel, in)
+				rep.add(RuleStats, "normalisation statistics fitted on a file of "+string(s), rel, in)
 			}
 		}
 	}
@@ -294,7 +295,7 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 			if _, err := os.Stat(filepath.Join(out, filepath.FromSlash(r.Path))); err != nil {
 				continue
 			}
-			if r.Split == Train {
+			if r.Split == machine.SplitTrain {
 				train = append(train, r.Path)
 			} else {
 				other = append(other, r.Path)
@@ -310,11 +311,11 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 
 // checkRows applies the rules that need only the rows and the plan.
 func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
-	groupSplit := map[string]map[string][]string{}
-	sourceSplit := map[string]map[string][]string{}
-	add := func(m map[string]map[string][]string, k, s, path string) {
+	groupSplit := map[string]map[machine.Split][]string{}
+	sourceSplit := map[string]map[machine.Split][]string{}
+	add := func(m map[string]map[machine.Split][]string, k string, s machine.Split, path string) {
 		if m[k] == nil {
-			m[k] = map[string][]string{}
+			m[k] = map[machine.Split][]string{}
 		}
 		m[k][s] = append(m[k][s], path)
 	}
@@ -325,13 +326,13 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 		if r.SourceSHA256 != "" {
 			add(sourceSplit, r.SourceSHA256, r.Split, r.Path)
 		}
-		if r.Split != Train && o != machine.OriginRecorded {
-			rep.add(RuleOriginTrain, o+" file in "+r.Split, r.Path)
+		if r.Split != machine.SplitTrain && o != machine.OriginRecorded {
+			rep.add(RuleOriginTrain, string(o)+" file in "+string(r.Split), r.Path)
 		}
-		if r.Split == Train && o == machine.OriginRecorded && l == machine.LabelAnomalous {
+		if r.Split == machine.SplitTrain && o == machine.OriginRecorded && l == machine.LabelAnomalous {
 			rep.add(RuleAnomalous, "real anomalous recording in train", r.Path)
 		}
-		if r.Split == Train {
+		if r.Split == machine.SplitTrain {
 			c, ok := plan.Policy.condition(r.Machine, r.Condition)
 			if ok && c.HoldOut {
 				rep.add(RuleHoldOut, "training file from hold-out condition "+c.Name, r.Path)
@@ -346,10 +347,10 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 			switch {
 			case !ok:
 				rep.add(RuleBackgrounds, "background "+b+" is not in the partition", r.Path)
-			case r.Split == Train && s != Train:
-				rep.add(RuleBackgrounds, "training file mixed with "+s+" background "+b, r.Path)
-			case r.Split != Train && s == Train:
-				rep.add(RuleBackgrounds, r.Split+" file mixed with training background "+b, r.Path)
+			case r.Split == machine.SplitTrain && s != machine.SplitTrain:
+				rep.add(RuleBackgrounds, "training file mixed with "+string(s)+" background "+b, r.Path)
+			case r.Split != machine.SplitTrain && s == machine.SplitTrain:
+				rep.add(RuleBackgrounds, string(r.Split)+" file mixed with training background "+b, r.Path)
 			}
 		}
 	}
@@ -358,7 +359,7 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 	rep.ran(RuleHoldOut, len(rows))
 	rep.ran(RuleHoldOutBand, len(rows))
 	rep.ran(RuleBackgrounds, len(rows))
-	spans := func(rule, what string, m map[string]map[string][]string) {
+	spans := func(rule, what string, m map[string]map[machine.Split][]string) {
 		keys := make([]string, 0, len(m))
 		for k := range m {
 			keys = append(keys, k)
@@ -369,9 +370,9 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 				continue
 			}
 			var files, names []string
-			for _, s := range []string{Train, Eval, Test} {
+			for _, s := range []machine.Split{machine.SplitTrain, machine.SplitEval, machine.SplitTest} {
 				if p := m[k][s]; len(p) > 0 {
-					names = append(names, s)
+					names = append(names, string(s))
 					files = append(files, p[0])
 				}
 			}
@@ -382,11 +383,11 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 	spans(RuleGroupOneSplit, "group", groupSplit)
 	spans(RuleSourceOne, "source recording", sourceSplit)
 	// Identical bytes on both sides of the boundary.
-	byHash := map[string]map[string][]string{}
+	byHash := map[string]map[machine.Split][]string{}
 	for _, r := range rows {
 		if h := hashes[r.Path]; h != "" {
-			side := Train
-			if r.Split != Train {
+			side := machine.SplitTrain
+			if r.Split != machine.SplitTrain {
 				side = "eval/test"
 			}
 			add(byHash, h, side, r.Path)
@@ -394,7 +395,7 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 	}
 	for _, h := range sortedKeys(byHash) {
 		if len(byHash[h]) == 2 {
-			rep.add(RuleExactDup, "identical content in train and eval/test", byHash[h][Train][0], byHash[h]["eval/test"][0])
+			rep.add(RuleExactDup, "identical content in train and eval/test", byHash[h][machine.SplitTrain][0], byHash[h]["eval/test"][0])
 		}
 	}
 	rep.ran(RuleExactDup, len(byHash))
@@ -456,24 +457,6 @@ func nearDuplicates(ctx context.Context, rep *Report, root string, train, eval [
 	}
 	rep.ran(RuleNearDup, len(eval))
 	return nil
-}
-
-// ReadLedgers reads every OUT/*/ledger.jsonl, in file-name order.
-func ReadLedgers(out string) ([]machine.Entry, error) {
-	files, err := filepath.Glob(filepath.Join(out, "*", "ledger.jsonl"))
-	if err != nil {
-		return nil, fmt.Errorf("split: %w", err)
-	}
-	sort.Strings(files)
-	var all []machine.Entry
-	for _, f := range files {
-		e, err := machine.ReadLedgerFile(f)
-		if err != nil {
-			return nil, fmt.Errorf("split: %w", err)
-		}
-		all = append(all, e...)
-	}
-	return all, nil
 }
 
 func relSlash(root, p string) string {

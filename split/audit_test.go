@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/machine/wavio"
 	"thrum/split/internal/synthtest"
 )
@@ -29,22 +30,22 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 	bg := AssignBackgrounds(p.Backgrounds, p)
 	var trainBG string
 	for _, id := range p.Backgrounds {
-		if bg[id] == Train {
+		if bg[id] == machine.SplitTrain {
 			trainBG = id
 			break
 		}
 	}
-	var ledger bytes.Buffer
-	write := func(e machine.Entry, x []float64) {
+	var lines bytes.Buffer
+	write := func(e ledger.Entry, x []float64) {
 		full := filepath.Join(dir, filepath.FromSlash(e.Path))
 		os.MkdirAll(filepath.Dir(full), 0o755)
 		if err := wavio.WriteFile(full, x, fs, 1, wavio.PCM16); err != nil {
 			t.Fatal(err)
 		}
 		e.SHA256 = fileHash(t, full)
-		e.Kind = machine.EntryOutput
+		e.Kind = ledger.KindOutput
 		b, _ := json.Marshal(e)
-		ledger.Write(append(b, '\n'))
+		lines.Write(append(b, '\n'))
 	}
 	for g := range 12 {
 		cond := "nominal"
@@ -53,7 +54,7 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 		}
 		x := mm.Record(rng, 3)
 		src := fmt.Sprintf("pump-a1/%s/rec%02d.wav", cond, g)
-		base := machine.Entry{Source: src, SourceSHA256: fmt.Sprintf("src%02d", g), Machine: "pump-a1", Condition: cond,
+		base := ledger.Entry{Stage: ledger.Expand, Source: src, SourceSHA256: fmt.Sprintf("src%02d", g), Machine: "pump-a1", Condition: cond,
 			Label: machine.LabelNormal, Group: src, Speed: 1, SampleRate: fs}
 		rec := base
 		rec.Path, rec.Origin = fmt.Sprintf("pump-a1/%s/rec%02d-c0.wav", cond, g), machine.OriginRecorded
@@ -63,10 +64,10 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 		aug.Backgrounds = []string{trainBG}
 		write(aug, synthtest.Gain(x, -3))
 	}
-	if err := os.WriteFile(filepath.Join(dir, "pump-a1", "ledger.jsonl"), ledger.Bytes(), 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(dir, "pump-a1", "ledger.jsonl"), lines.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	entries, err := ReadLedgers(dir)
+	entries, err := ledger.ReadTree(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -79,7 +80,7 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 	}
 	var inputs []string
 	for _, r := range rows {
-		if r.Split == Train {
+		if r.Split == machine.SplitTrain {
 			inputs = append(inputs, r.Path)
 		}
 	}
@@ -131,13 +132,13 @@ func TestAuditLeaks(t *testing.T) {
 	for i := range rows {
 		r := &rows[i]
 		switch {
-		case r.Split != Train && r.Split != Excluded && r.Condition == "nominal" && evalRec == nil:
+		case r.Split != machine.SplitTrain && r.Split != Excluded && r.Condition == "nominal" && evalRec == nil:
 			evalRec = r
-		case r.Split == Train && r.Origin == machine.OriginAugmented && trainAug == nil:
+		case r.Split == machine.SplitTrain && r.Origin == machine.OriginAugmented && trainAug == nil:
 			trainAug = r
 		case r.Split == Excluded && r.Condition == "nominal" && excluded == nil:
 			excluded = r
-		case r.Split == Train && r.Origin == machine.OriginRecorded && trainRec == nil:
+		case r.Split == machine.SplitTrain && r.Origin == machine.OriginRecorded && trainRec == nil:
 			trainRec = r
 		}
 	}
@@ -147,7 +148,7 @@ func TestAuditLeaks(t *testing.T) {
 	bg := AssignBackgrounds(p.Backgrounds, p)
 	var testBG string
 	for id, s := range bg {
-		if s != Train {
+		if s != machine.SplitTrain {
 			testBG = id
 		}
 	}
@@ -162,17 +163,17 @@ func TestAuditLeaks(t *testing.T) {
 		t.Fatal(err)
 	}
 	leakRow := Row{Item: Item{Path: leakPath, SHA256: fileHash(t, filepath.Join(dir, leakPath)), Machine: "pump-a1", Condition: "nominal",
-		Origin: machine.OriginRecorded, Label: machine.LabelNormal, Group: "extra-take", SourceSHA256: "extra", Speed: 1}, Split: Train}
+		Origin: machine.OriginRecorded, Label: machine.LabelNormal, Group: "extra-take", SourceSHA256: "extra", Speed: 1}, Split: machine.SplitTrain}
 	// 2. A derived file of an eval group moved into train.
-	excluded.Split = Train
+	excluded.Split = machine.SplitTrain
 	// 3. An augmented file in test.
-	trainAug.Split = Test
+	trainAug.Split = machine.SplitTest
 	// 4. A training file mixed with a non-training background.
 	trainRec.Backgrounds = []string{testBG}
 	// 5. An eval clip altered on disk.
 	var other *Row
 	for i := range rows {
-		if rows[i].Split == Eval || rows[i].Split == Test {
+		if rows[i].Split == machine.SplitEval || rows[i].Split == machine.SplitTest {
 			if rows[i].Path != evalRec.Path && rows[i].Origin == machine.OriginRecorded && rows[i].Condition == "nominal" {
 				other = &rows[i]
 			}
@@ -193,7 +194,7 @@ func TestAuditLeaks(t *testing.T) {
 			break
 		}
 	}
-	hold.Split = Train
+	hold.Split = machine.SplitTrain
 	rows = append(rows, leakRow)
 	var buf bytes.Buffer
 	if err := WriteListsCSV(&buf, rows); err != nil {

@@ -45,7 +45,7 @@
 //
 // # Use
 //
-//	entries, _ := split.ReadLedgers(out)
+//	entries, _ := ledger.ReadTree(out)
 //	pol := split.PolicyFromPlant(plant)
 //	rows, err := split.Assign(split.ItemsFromLedger(entries), pol)
 //	err = split.WriteSplits(out, rows, pol)

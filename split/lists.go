@@ -35,7 +35,7 @@ func WriteListsCSV(w io.Writer, rows []Row) error {
 		return err
 	}
 	for _, r := range rows {
-		rec := []string{r.Path, r.Machine, r.Condition, r.Split, r.Origin, r.Label, r.Group,
+		rec := []string{r.Path, r.Machine, r.Condition, string(r.Split), string(r.Origin), string(r.Label), r.Group,
 			r.SHA256, r.Source, r.SourceSHA256, strconv.FormatFloat(r.Speed, 'g', -1, 64),
 			strings.Join(r.Backgrounds, ";"), r.Reason}
 		if err := cw.Write(rec); err != nil {
@@ -62,8 +62,8 @@ func ReadListsCSV(r io.Reader) ([]Row, error) {
 			return ""
 		}
 		row := Row{Item: Item{Path: get("path"), Machine: get("machine"), Condition: get("condition"),
-			Origin: get("origin"), Label: get("label"), Group: get("group"), SHA256: get("sha256"),
-			Source: get("source"), SourceSHA256: get("source_sha256")}, Split: get("split"), Reason: get("reason")}
+			Origin: machine.Origin(get("origin")), Label: machine.Label(get("label")), Group: get("group"), SHA256: get("sha256"),
+			Source: get("source"), SourceSHA256: get("source_sha256")}, Split: machine.Split(get("split")), Reason: get("reason")}
 		row.Speed = 1
 		if s := get("speed"); s != "" {
 			v, err := strconv.ParseFloat(s, 64)
@@ -83,13 +83,22 @@ func ReadListsCSV(r io.Reader) ([]Row, error) {
 // Summary is one line of summary.csv: the files and groups of one machine,
 // split, origin and label.
 type Summary struct {
-	Machine, Split, Origin, Label string
-	Files, Groups                 int
+	Machine string
+	Split   machine.Split
+	Origin  machine.Origin
+	Label   machine.Label
+	Files   int
+	Groups  int
 }
 
 // Summarize counts rows per machine, split, origin and label, sorted.
 func Summarize(rows []Row) []Summary {
-	type key struct{ m, s, o, l string }
+	type key struct {
+		m string
+		s machine.Split
+		o machine.Origin
+		l machine.Label
+	}
 	files := map[key]int{}
 	groups := map[key]map[string]bool{}
 	for _, r := range rows {
@@ -120,13 +129,13 @@ func Summarize(rows []Row) []Summary {
 	return out
 }
 
-func splitOrder(s string) int {
+func splitOrder(s machine.Split) int {
 	switch s {
-	case Train:
+	case machine.SplitTrain:
 		return 0
-	case Eval:
+	case machine.SplitEval:
 		return 1
-	case Test:
+	case machine.SplitTest:
 		return 2
 	}
 	return 3
@@ -137,7 +146,7 @@ func WriteSummaryCSV(w io.Writer, s []Summary) error {
 	cw := csv.NewWriter(w)
 	cw.Write([]string{"machine", "split", "origin", "label", "files", "groups"})
 	for _, r := range s {
-		cw.Write([]string{r.Machine, r.Split, r.Origin, r.Label, strconv.Itoa(r.Files), strconv.Itoa(r.Groups)})
+		cw.Write([]string{r.Machine, string(r.Split), string(r.Origin), string(r.Label), strconv.Itoa(r.Files), strconv.Itoa(r.Groups)})
 	}
 	cw.Flush()
 	return cw.Error()
@@ -156,13 +165,13 @@ func ReadSummaryCSV(r io.Reader) ([]Summary, error) {
 		if err1 != nil || err2 != nil {
 			return nil, fmt.Errorf("split: summary line %d: bad count", i+2)
 		}
-		out = append(out, Summary{rec[col["machine"]], rec[col["split"]], rec[col["origin"]], rec[col["label"]], f, g})
+		out = append(out, Summary{rec[col["machine"]], machine.Split(rec[col["split"]]), machine.Origin(rec[col["origin"]]), machine.Label(rec[col["label"]]), f, g})
 	}
 	return out, nil
 }
 
 // WriteBackgroundsCSV writes the background partition (id, split), sorted by id.
-func WriteBackgroundsCSV(w io.Writer, bg map[string]string) error {
+func WriteBackgroundsCSV(w io.Writer, bg map[string]machine.Split) error {
 	ids := make([]string, 0, len(bg))
 	for id := range bg {
 		ids = append(ids, id)
@@ -171,30 +180,30 @@ func WriteBackgroundsCSV(w io.Writer, bg map[string]string) error {
 	cw := csv.NewWriter(w)
 	cw.Write([]string{"id", "split"})
 	for _, id := range ids {
-		cw.Write([]string{id, bg[id]})
+		cw.Write([]string{id, string(bg[id])})
 	}
 	cw.Flush()
 	return cw.Error()
 }
 
 // ReadBackgroundsCSV reads the background partition.
-func ReadBackgroundsCSV(r io.Reader) (map[string]string, error) {
+func ReadBackgroundsCSV(r io.Reader) (map[string]machine.Split, error) {
 	recs, col, err := readCSV(r, "id", "split")
 	if err != nil {
 		return nil, err
 	}
-	out := map[string]string{}
+	out := map[string]machine.Split{}
 	for _, rec := range recs {
-		out[rec[col["id"]]] = rec[col["split"]]
+		out[rec[col["id"]]] = machine.Split(rec[col["split"]])
 	}
 	return out, nil
 }
 
 // Plan is plan.json: the policy and the background partition.
 type Plan struct {
-	Version     int               `json:"version"`
-	Policy      Policy            `json:"policy"`
-	Backgrounds map[string]string `json:"backgrounds"`
+	Version     int                      `json:"version"`
+	Policy      Policy                   `json:"policy"`
+	Backgrounds map[string]machine.Split `json:"backgrounds"`
 }
 
 // WritePlan writes plan.json (indented, keys in a fixed order).

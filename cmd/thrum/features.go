@@ -3,13 +3,13 @@ package main
 import (
 	"context"
 	"fmt"
-	"path/filepath"
 
 	"github.com/spf13/cobra"
 
 	"thrum/augment"
 	"thrum/features"
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/split"
 )
 
@@ -56,14 +56,12 @@ func runFeatures(ctx context.Context, g *globals, o stageOptions, p *machine.Pla
 		return nil, fmt.Errorf("features: %w (run split first)", err)
 	}
 	clips := map[string]int{}
-	for i := range p.Machines {
-		es, err := machine.ReadLedgerFile(filepath.Join(o.Out, p.Machines[i].ID, machine.LedgerName))
-		if err != nil {
-			return nil, err
-		}
-		for _, e := range es {
-			clips[e.Path] = e.Clip
-		}
+	entries, err := ledger.ReadTree(o.Out)
+	if err != nil {
+		return nil, err
+	}
+	for _, e := range entries {
+		clips[e.Path] = e.Clip
 	}
 	var inputs []features.Input
 	for _, r := range rows {

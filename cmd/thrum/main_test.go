@@ -17,6 +17,7 @@ import (
 
 	"thrum/machine"
 	"thrum/machine/demoplant"
+	"thrum/machine/ledger"
 )
 
 // TestMain lets the test binary act as the thrum command when THRUM_AS_CLI
@@ -255,12 +256,12 @@ func checkRecorded(t *testing.T, out string) {
 	files, _ := filepath.Glob(filepath.Join(out, "*", "ledger.jsonl"))
 	js, _ := filepath.Glob(filepath.Join(out, "*", ".journal-*.jsonl"))
 	for _, f := range append(files, js...) {
-		es, err := machine.ReadLedgerFile(f)
+		es, err := ledger.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
 		}
 		for _, e := range es {
-			if e.Kind != machine.EntryOutput {
+			if e.Kind != ledger.KindOutput {
 				continue
 			}
 			sum, err := machine.HashFile(filepath.Join(out, filepath.FromSlash(e.Path)))
@@ -485,9 +486,9 @@ func TestGuardRejectsAndRecordsReason(t *testing.T) {
 		t.Errorf("summary does not count the rejections:\n%s", stdout)
 	}
 	rejected, room := 0, 0
-	files, _ := filepath.Glob(filepath.Join(out, "*", machine.LedgerName))
+	files, _ := filepath.Glob(filepath.Join(out, "*", ledger.FileName))
 	for _, f := range files {
-		es, err := machine.ReadLedgerFile(f)
+		es, err := ledger.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -500,10 +501,10 @@ func TestGuardRejectsAndRecordsReason(t *testing.T) {
 				continue
 			}
 			room++
-			if e.Kind != machine.EntryRejected || e.Reason != "rt60-outside-room-range" || e.Path != "" || e.SHA256 != "" {
+			if e.Kind != ledger.KindRejected || e.Reason != "rt60-outside-room-range" || e.Path != "" || e.SHA256 != "" {
 				t.Errorf("room variant not rejected as expected: %+v", e)
 			}
-			if e.Kind == machine.EntryRejected {
+			if e.Kind == ledger.KindRejected {
 				rejected++
 				for _, s := range e.Steps {
 					if s.Kind == "room" && s.Params["rt60_s"] >= 0.01 && s.Params["rt60_s"] <= 0.02 {

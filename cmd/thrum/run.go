@@ -15,6 +15,7 @@ import (
 	"thrum/augment"
 	"thrum/features"
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/split"
 )
 
@@ -56,7 +57,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	}
 	sh, _ := o.shard()
 	if sh.N <= 1 {
-		if _, err := augment.MergeShards(p, o.Out); err != nil {
+		if _, err := ledger.Merge(p, o.Out); err != nil {
 			return err
 		}
 	}
@@ -122,7 +123,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		return err
 	}
 	for _, row := range rows {
-		get(row.Machine).splits[row.Split]++
+		get(row.Machine).splits[string(row.Split)]++
 	}
 	verdict := "clean"
 	if !rep.OK() {
@@ -155,7 +156,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		for _, id := range sortedKeys(reports) {
 			m := reports[id]
 			fmt.Fprintf(tw, "%s\t%d\t%d\t%s\t%s\t%d\t%d\t%d\t%d\n", id, m.clips, m.augmented, counts(m.rejected), counts(m.faults),
-				m.splits[split.Train], m.splits[split.Eval], m.splits[split.Test], m.splits[split.Excluded])
+				m.splits[string(machine.SplitTrain)], m.splits[string(machine.SplitEval)], m.splits[string(machine.SplitTest)], m.splits[string(split.Excluded)])
 		}
 		tw.Flush()
 		fmt.Fprintf(g.stdout, "audit: %s; wall time %.1f s; outputs in %s; report: %s\n", verdict, wall.Seconds(), o.Out, reportPath)

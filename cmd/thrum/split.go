@@ -8,8 +8,8 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"thrum/augment"
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/split"
 )
 
@@ -43,16 +43,20 @@ Lists go to DIR/splits/.`,
 }
 
 func runSplit(_ context.Context, g *globals, o stageOptions, p *machine.Plant) error {
-	if _, err := augment.MergeShards(p, o.Out); err != nil {
+	if _, err := ledger.Merge(p, o.Out); err != nil {
 		return err
 	}
-	var all []machine.Entry
-	for i := range p.Machines {
-		es, err := machine.ReadLedgerFile(filepath.Join(o.Out, p.Machines[i].ID, machine.LedgerName))
-		if err != nil {
-			return err
+	tree, err := ledger.ReadTree(o.Out)
+	if err != nil {
+		return err
+	}
+	// only the plant's machines: a ledger left by a machine since removed
+	// from plant.toml is not split
+	var all []ledger.Entry
+	for _, e := range tree {
+		if p.Machine(e.Machine) != nil {
+			all = append(all, e)
 		}
-		all = append(all, es...)
 	}
 	if len(all) == 0 {
 		return fmt.Errorf("split: no ledger lines under %s: run expand first", o.Out)

@@ -133,7 +133,7 @@ func augmentOptions(inv *machine.Inventory, o stageOptions, r *renderer) (augmen
 		return augment.Options{}, err
 	}
 	pol := split.PolicyFromPlant(inv.Plant)
-	trains := func(m, group string) bool { return pol.NormalGroupSplit(m, group) == split.Train }
+	trains := func(m, group string) bool { return pol.NormalGroupSplit(m, group) == machine.SplitTrain }
 	return augment.Options{Out: o.Out, Workers: o.Workers, Encoding: enc, Shard: sh,
 		Backgrounds: trainBackgrounds(inv.Plant), Trains: trains, Progress: r.event}, nil
 }
@@ -146,7 +146,7 @@ func trainBackgrounds(p *machine.Plant) []string {
 	part := split.AssignBackgrounds(ids, split.PolicyFromPlant(p))
 	out := []string{}
 	for _, id := range ids {
-		if part[id] == split.Train {
+		if part[id] == machine.SplitTrain {
 			out = append(out, id)
 		}
 	}

@@ -1,40 +1,55 @@
-package machine
+package ledger
 
-import (
-	"bufio"
-	"encoding/json"
-	"fmt"
-	"io"
-)
+import "thrum/machine"
 
-// Origins of a file in the dataset.
+// Schema is the version of the line format this package writes. Every line
+// it writes carries it in its "schema" field.
+const Schema = 1
+
+// FileName is the ledger file of a machine inside its output folder.
+const FileName = "ledger.jsonl"
+
+// Stage is a stage that writes ledger lines.
+type Stage string
+
+// The stages, in the order their sections appear in a ledger.
 const (
-	OriginRecorded       = "recorded"
-	OriginAugmented      = "augmented"
-	OriginSyntheticFault = "synthetic-fault"
+	Expand   Stage = "expand"
+	Faults   Stage = "faults"
+	Features Stage = "features"
 )
 
-// Labels.
+// Stages returns the stages in canonical ledger order.
+func Stages() []Stage { return []Stage{Expand, Faults, Features} }
+
+// Rank is the stage's position in Stages, or -1 for an unknown stage.
+func (s Stage) Rank() int {
+	for i, t := range Stages() {
+		if s == t {
+			return i
+		}
+	}
+	return -1
+}
+
+// Kind says whether a line names an output or a rejected variant.
+type Kind string
+
+// Line kinds.
 const (
-	LabelNormal    = "normal"
-	LabelAnomalous = "anomalous"
+	KindOutput   Kind = "output"
+	KindRejected Kind = "rejected"
 )
 
-// ToolVersion is written into every ledger line.
-const ToolVersion = "thrum 0.1.0"
-
-// Ledger line kinds.
-const (
-	EntryOutput   = "output"
-	EntryRejected = "rejected"
-)
-
-// Entry is one line of out/<machine-id>/ledger.jsonl: everything needed to
+// Entry is one line of OUT/<machine-id>/ledger.jsonl: everything needed to
 // redo one output, or the reason a variant was not written.
 type Entry struct {
-	Kind string `json:"kind"` // "output" or "rejected"
-	// Stage is the stage that wrote the line: expand, faults or features.
-	Stage string `json:"stage"`
+	// Schema is the line format version (see Schema); 0 for a line written
+	// before the field existed. Writers stamp it; callers leave it zero.
+	Schema int  `json:"schema"`
+	Kind   Kind `json:"kind"`
+	// Stage is the stage that wrote the line.
+	Stage Stage `json:"stage"`
 	// Path is the output file, relative to the output root, slash-separated.
 	Path   string `json:"path,omitempty"`
 	SHA256 string `json:"sha256,omitempty"`
@@ -43,13 +58,13 @@ type Entry struct {
 	SourceSHA256 string `json:"source_sha256"`
 	// Clip is the clip index inside the source; ClipStart and ClipFrames
 	// locate it in frames.
-	Clip       int    `json:"clip"`
-	ClipStart  int64  `json:"clip_start"`
-	ClipFrames int64  `json:"clip_frames"`
-	Machine    string `json:"machine"`
-	Condition  string `json:"condition"`
-	Origin     string `json:"origin"`
-	Label      string `json:"label"`
+	Clip       int            `json:"clip"`
+	ClipStart  int64          `json:"clip_start"`
+	ClipFrames int64          `json:"clip_frames"`
+	Machine    string         `json:"machine"`
+	Condition  string         `json:"condition"`
+	Origin     machine.Origin `json:"origin"`
+	Label      machine.Label  `json:"label"`
 	// Group is the split unit: the source recording, or its session.
 	Group      string `json:"group"`
 	Variant    int    `json:"variant"`
@@ -92,28 +107,4 @@ type FaultRecord struct {
 	SeverityDB  float64            `json:"severity_db"`
 	ResonanceHz float64            `json:"resonance_hz,omitempty"`
 	Seed        uint64             `json:"seed"`
-}
-
-// ReadLedger reads a ledger from r. name is used in error messages.
-func ReadLedger(r io.Reader, name string) ([]Entry, error) {
-	var out []Entry
-	sc := bufio.NewScanner(r)
-	sc.Buffer(make([]byte, 0, 64<<10), 16<<20)
-	line := 0
-	for sc.Scan() {
-		line++
-		b := sc.Bytes()
-		if len(b) == 0 {
-			continue
-		}
-		var e Entry
-		if err := json.Unmarshal(b, &e); err != nil {
-			return out, fmt.Errorf("%s:%d: ledger: %w", name, line, err)
-		}
-		out = append(out, e)
-	}
-	if err := sc.Err(); err != nil {
-		return out, fmt.Errorf("%s: ledger: %w", name, err)
-	}
-	return out, nil
 }
