@@ -37,7 +37,7 @@ func ItemsFromLedger(entries []ledger.Entry) []Item {
 		// Features-stage lines name feature arrays (masked copies of a
 		// training clip's features), not audio: they follow their input
 		// clip's split and are checked against it by the audit.
-		if e.Kind != ledger.KindOutput || e.Stage == "features" {
+		if e.Kind != ledger.KindOutput || e.Stage == ledger.Features {
 			continue
 		}
 		it := Item{
