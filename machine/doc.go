@@ -18,9 +18,10 @@
 //     thrum produces.
 //
 // Sub-packages hold what splits off: machine/ledger (the per-machine record
-// of every output), machine/wavio (WAV reading and writing),
-// machine/exposure (noise-exposure figures), machine/pool (the bounded
-// worker pool) and machine/demoplant (the invented demo plant).
+// of every output), machine/wavio (WAV reading and writing), machine/dsp
+// (the FFT, convolver and dot kernels the stages share), machine/pool (the
+// bounded worker pool), machine/exposure (noise-exposure figures) and
+// machine/demoplant (the invented demo plant).
 //
 // # Vocabulary
 //
