@@ -1,38 +1,12 @@
 package machine
 
 import (
-	"errors"
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
 	"regexp"
 	"sort"
-	"strconv"
 	"strings"
-
-	"github.com/BurntSushi/toml"
 )
-
-// ConfigError is one problem in a plant file: the file, the key path
-// (machine[pump-a1].condition[low].rpm) and, where it can be found, the line.
-type ConfigError struct {
-	File string
-	Key  string
-	Line int // 0 when unknown
-	Msg  string
-}
-
-func (e *ConfigError) Error() string {
-	loc := e.File
-	if e.Line > 0 {
-		loc = fmt.Sprintf("%s:%d", e.File, e.Line)
-	}
-	if e.Key == "" {
-		return fmt.Sprintf("machine: %s: %s", loc, e.Msg)
-	}
-	return fmt.Sprintf("machine: %s: %s: %s", loc, e.Key, e.Msg)
-}
 
 // Defaults applied by Load where a key is absent.
 const (
@@ -65,8 +39,6 @@ func FaultKinds() []string {
 // OctaveBands are the band centres accepted in octave_absorption.
 func OctaveBands() []string { return []string{"125", "250", "500", "1000", "2000", "4000"} }
 
-var lineRE = regexp.MustCompile(`line (\d+)`)
-
 var idPattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]{0,63}$`)
 
 // ValidID reports whether s may name a machine, condition, room, zone,
@@ -75,47 +47,6 @@ var idPattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]{0,63}$`)
 // escape a folder.
 func ValidID(s string) bool {
 	return idPattern.MatchString(s) && !strings.Contains(s, "..")
-}
-
-// Load reads and validates a plant file. Every problem is reported, each
-// naming the file, the key path and, where it can be found, the line; the
-// returned error joins them (errors.As finds *ConfigError).
-func Load(path string) (*Plant, error) {
-	src, err := os.ReadFile(path)
-	if err != nil {
-		return nil, fmt.Errorf("machine: %w", err)
-	}
-	return Parse(src, path)
-}
-
-// Parse decodes and validates plant TOML; name is the file name used in
-// errors and to resolve relative paths.
-func Parse(src []byte, name string) (*Plant, error) {
-	var p Plant
-	md, err := toml.Decode(string(src), &p)
-	if err != nil {
-		ce := &ConfigError{File: name, Msg: err.Error()}
-		var pe toml.ParseError
-		if errors.As(err, &pe) {
-			ce.Line = pe.Position.Line
-			ce.Msg = pe.Message
-		} else if m := lineRE.FindStringSubmatch(err.Error()); m != nil {
-			ce.Line, _ = strconv.Atoi(m[1])
-		}
-		return nil, ce
-	}
-	v := &validator{file: name, lines: strings.Split(string(src), "\n")}
-	undecoded := md.Undecoded()
-	for _, k := range undecoded {
-		key := k.String()
-		v.errs = append(v.errs, &ConfigError{File: name, Key: key, Line: v.findKey("", k[len(k)-1]), Msg: "unknown key"})
-	}
-	p.Path = name
-	v.plant(&p)
-	if len(v.errs) > 0 {
-		return nil, errors.Join(v.errs...)
-	}
-	return &p, nil
 }
 
 type validator struct {
@@ -609,93 +540,4 @@ func (v *validator) faults(p *Plant, m *Machine, f *FaultPlan, key string) {
 		f.JitterPercent = &j
 	}
 	v.rangeCheck(m.ID, key+".jitter_percent", "jitter_percent", *f.JitterPercent, 0, 10, "%")
-}
-
-// Dir is the folder of the plant file; relative paths resolve against it.
-func (p *Plant) Dir() string { return filepath.Dir(p.Path) }
-
-// Resolve returns path resolved against the plant file's folder.
-func (p *Plant) Resolve(path string) string {
-	if filepath.IsAbs(path) {
-		return path
-	}
-	return filepath.Join(p.Dir(), path)
-}
-
-// RecordingsRoot is the resolved recordings folder.
-func (p *Plant) RecordingsRoot() string { return p.Resolve(p.Recordings) }
-
-// Machine returns the machine with the given id, or nil.
-func (p *Plant) Machine(id string) *Machine {
-	for i := range p.Machines {
-		if p.Machines[i].ID == id {
-			return &p.Machines[i]
-		}
-	}
-	return nil
-}
-
-// Room returns the room with the given id, or nil.
-func (p *Plant) Room(id string) *Room {
-	for i := range p.Rooms {
-		if p.Rooms[i].ID == id {
-			return &p.Rooms[i]
-		}
-	}
-	return nil
-}
-
-// Zone returns the zone with the given id, or nil.
-func (p *Plant) Zone(id string) *Zone {
-	for i := range p.Zones {
-		if p.Zones[i].ID == id {
-			return &p.Zones[i]
-		}
-	}
-	return nil
-}
-
-// Recipe returns the recipe with the given id, or nil.
-func (p *Plant) Recipe(id string) *Recipe {
-	for i := range p.Recipes {
-		if p.Recipes[i].ID == id {
-			return &p.Recipes[i]
-		}
-	}
-	return nil
-}
-
-// Condition returns the machine's condition with the given name, or nil.
-func (m *Machine) Condition(name string) *Condition {
-	for i := range m.Conditions {
-		if m.Conditions[i].Name == name {
-			return &m.Conditions[i]
-		}
-	}
-	return nil
-}
-
-// RecipeFor returns the recipe that applies to a condition (its own, else the
-// machine's), or nil when none is set.
-func (p *Plant) RecipeFor(m *Machine, c *Condition) *Recipe {
-	if c != nil && c.Recipe != "" {
-		return p.Recipe(c.Recipe)
-	}
-	if m.Recipe != "" {
-		return p.Recipe(m.Recipe)
-	}
-	return nil
-}
-
-// Fractions returns the split fractions for a machine.
-func (p *Plant) Fractions(m *Machine) SplitFractions {
-	if m.Split != nil {
-		return *m.Split
-	}
-	return p.Split
-}
-
-// Band returns the speed band of a condition as [lo, hi] rpm.
-func (c *Condition) Band() (lo, hi float64) {
-	return c.RPM * (1 - c.BandPercent/100), c.RPM * (1 + c.BandPercent/100)
 }
