@@ -2,6 +2,7 @@ package machine
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"strings"
@@ -41,26 +42,75 @@ func TestParseMinimal(t *testing.T) {
 	}
 }
 
-// Each case replaces one line of the minimal plant and names the key path and
-// the words the error must contain.
+// configErrors returns the *ConfigErrors inside err (a join of them).
+func configErrors(err error) []*ConfigError {
+	var out []*ConfigError
+	var ce *ConfigError
+	if errors.As(err, &ce) && ce == err {
+		return []*ConfigError{ce}
+	}
+	if j, ok := err.(interface{ Unwrap() []error }); ok {
+		for _, e := range j.Unwrap() {
+			out = append(out, configErrors(e)...)
+		}
+	}
+	return out
+}
+
+// Each case replaces one line of the minimal plant and names the line and
+// the key path the error must carry, and words its message must contain.
 func TestParseErrors(t *testing.T) {
+	const secondMachine = `band_percent = 3
+[[machine]]
+id = "fan-b2"
+kind = "fan"
+  [[machine.condition]]
+  name = "full-load"
+  rpm = 0`
 	cases := []struct {
 		name, old, new string
-		want           []string
+		line           int
+		key, msg       string
 	}{
-		{"unknown key", "seed = 7", "seed = 7\nsead = 8", []string{"sead", "unknown key", "minimal.toml:3"}},
-		{"rpm zero", "rpm = 1480", "rpm = 0", []string{"machine[pump-a1].condition[full-load].rpm", "(0, 100000]"}},
-		{"pitch below ball", "pitch_diameter_mm = 39.04", "pitch_diameter_mm = 5", []string{"bearing[0].pitch_diameter_mm", "must exceed ball diameter"}},
-		{"contact angle", "contact_angle_deg = 0", "contact_angle_deg = 60", []string{"contact_angle_deg", "0 … 45"}},
-		{"unsafe id", `id = "pump-a1"`, `id = "../etc"`, []string{"machine[0].id", "not a valid id"}},
-		{"mic outside room", "max = [4, 4, 2]", "max = [4, 4, 9]", []string{"zone[near].max", "not inside room"}},
-		{"machine outside room", "position = [10, 6, 1]", "position = [30, 6, 1]", []string{"machine[pump-a1].position", "not inside room"}},
-		{"bad step", `kind = "gain"`, `kind = "chorus"`, []string{"recipe[basic].step[1].kind", "not one of"}},
-		{"speed range", "range = [-2, 2]", "range = [-40, 2]", []string{"recipe[basic].step[0].range", "-20 … 20"}},
-		{"sample rate", "sample_rate = 16000", "sample_rate = 100", []string{"sample_rate", "8000 … 192000"}},
-		{"tempo needs ack", `kind = "gain"`, `kind = "tempo"`, []string{"nonphysical = true"}},
-		{"syntax", "seed = 7", "seed = = 7", []string{"minimal.toml:2"}},
-		{"type", "balls = 9", `balls = "nine"`, []string{"minimal.toml:", "balls"}},
+		{"unknown key", "seed = 7", "seed = 7\nsead = 8", 3, "sead", "unknown key"},
+		{"unknown key in a table", "band_percent = 3", "band_percent = 3\nrmp = 3", 49, "machine[0].condition[1].rmp", "unknown key"},
+		{"rpm zero", "rpm = 1480", "rpm = 0", 43, "machine[pump-a1].condition[full-load].rpm", "(0, 100000]"},
+		{"rpm zero, second machine, same condition name", "band_percent = 3", secondMachine, 54, "machine[fan-b2].condition[full-load].rpm", "(0, 100000]"},
+		{"pitch below ball", "pitch_diameter_mm = 39.04", "pitch_diameter_mm = 5", 39, "machine[pump-a1].bearing[0].pitch_diameter_mm", "must exceed ball diameter"},
+		{"contact angle", "contact_angle_deg = 0", "contact_angle_deg = 60", 40, "machine[pump-a1].bearing[0].contact_angle_deg", "0 … 45"},
+		{"unsafe id", `id = "pump-a1"`, `id = "../etc"`, 29, "machine[0].id", "not a valid id"},
+		{"mic outside room", "max = [4, 4, 2]", "max = [4, 4, 9]", 15, "zone[near].max", "not inside room"},
+		{"machine outside room", "position = [10, 6, 1]", "position = [30, 6, 1]", 34, "machine[pump-a1].position", "not inside room"},
+		{"bad step", `kind = "gain"`, `kind = "chorus"`, 25, "recipe[basic].step[1].kind", "not one of"},
+		{"speed range", "range = [-2, 2]", "range = [-40, 2]", 22, "recipe[basic].step[0].range", "-20 … 20"},
+		{"sample rate", "sample_rate = 16000", "sample_rate = 100", 3, "sample_rate", "8000 … 192000"},
+		{"tempo needs ack", `kind = "gain"`, `kind = "tempo"`, 25, "recipe[basic].step[1].nonphysical", "nonphysical = true"},
+		{"syntax", "seed = 7", "seed = = 7", 2, "", "expected value"},
+		{"type", "balls = 9", `balls = "nine"`, 37, "machine[0].bearing[0].balls", "incompatible types"},
+		// The decoder knows only the last line of a key that repeats across
+		// table elements (47 here); the error must name the key's own line.
+		{"type in first of two conditions", "rpm = 1480", `rpm = "1485"`, 43, "machine[0].condition[0].rpm", "type string"},
+		{"type in second of two conditions", "rpm = 1180", `rpm = "1180"`, 47, "machine[0].condition[1].rpm", "type string"},
+		// TOML has nan and inf literals: every float key refuses them.
+		{"nan zone corner", "min = [1, 1, 1]", "min = [nan, 1, 1]", 14, "zone[near].min[0]", "not a finite number"},
+		{"nan position", "position = [10, 6, 1]", "position = [10, nan, 1]", 34, "machine[pump-a1].position[1]", "not a finite number"},
+		{"inf clip", "seed = 7", "seed = 7\nclip_seconds = inf", 3, "clip_seconds", "not a finite number"},
+		{"-inf rpm", "rpm = 1480", "rpm = -inf", 43, "machine[pump-a1].condition[full-load].rpm", "not a finite number"},
+		{"nan absorption", "absorption = 0.1", "absorption = nan", 9, "room[hall].absorption[0]", "not a finite number"},
+		{"nan range", "range = [-6, 6]", "range = [-6, nan]", 26, "recipe[basic].step[1].range[1]", "not a finite number"},
+		{"inf increment", "increment = 0.5", "increment = +inf", 23, "recipe[basic].step[0].increment", "not a finite number"},
+		{"nan split", "[[room]]", "[split]\nanomalous_eval = nan\n[[room]]", 7, "split.anomalous_eval", "not a finite number"},
+		// Zero is a value, not "absent".
+		{"variants zero", "variants = 2", "variants = 0", 19, "recipe[basic].variants", "0  is outside 1 … 1000"},
+		{"clip zero", "seed = 7", "seed = 7\nclip_seconds = 0", 3, "clip_seconds", "0 s is outside 0.5 … 600 s"},
+		{"min_steps zero", "variants = 2", "variants = 2\nmin_steps = 0", 20, "recipe[basic].min_steps", "1 ≤ min_steps (0)"},
+		{"per_clip zero", `recipe = "basic"`, "recipe = \"basic\"\n  [machine.faults]\n  kinds = [\"imbalance\"]\n  per_clip = 0", 38, "machine[pump-a1].faults.per_clip", "0  is outside 1 … 100"},
+		// TOML integers are signed 64-bit; the seed is not negative.
+		{"seed negative", "seed = 7", "seed = -1", 2, "seed", "-1 is outside 0 … 9223372036854775807"},
+		// A machine folder may not take the name of what thrum writes beside it.
+		{"id features", `id = "pump-a1"`, `id = "features"`, 29, "machine[0].id", "top of the output folder"},
+		{"id splits", `id = "pump-a1"`, `id = "splits"`, 29, "machine[0].id", "top of the output folder"},
+		{"id report", `id = "pump-a1"`, `id = "report.html"`, 29, "machine[0].id", "top of the output folder"},
 	}
 	base := minimalTOML(t)
 	for _, c := range cases {
@@ -73,16 +123,46 @@ func TestParseErrors(t *testing.T) {
 			if err == nil {
 				t.Fatal("no error")
 			}
-			for _, w := range c.want {
-				if !strings.Contains(err.Error(), w) {
-					t.Errorf("error %q lacks %q", err, w)
+			var found *ConfigError
+			for _, ce := range configErrors(err) {
+				if ce.Key == c.key && strings.Contains(ce.Msg, c.msg) {
+					found = ce
 				}
 			}
-			var ce *ConfigError
-			if !errors.As(err, &ce) {
-				t.Errorf("not a *ConfigError: %T", err)
+			if found == nil {
+				t.Fatalf("no *ConfigError with key %q and message %q in:\n%v", c.key, c.msg, err)
+			}
+			if found.File != "minimal.toml" || found.Line != c.line {
+				t.Errorf("%v: at %s:%d, want minimal.toml:%d", found, found.File, found.Line, c.line)
+			}
+			want := fmt.Sprintf("minimal.toml:%d: ", c.line)
+			if c.key != "" {
+				want += c.key + ": "
+			}
+			if !strings.HasPrefix(found.Error(), "machine: "+want) {
+				t.Errorf("message %q does not start with %q", found.Error(), "machine: "+want)
 			}
 		})
+	}
+}
+
+// An explicit anomalous_eval = 0 sends every real anomalous group to test;
+// only an absent key takes the default.
+func TestParseZeroIsAValue(t *testing.T) {
+	src := strings.Replace(minimalTOML(t), "[[room]]", "[split]\nanomalous_eval = 0\n[[room]]", 1)
+	p, err := Parse([]byte(src), "minimal.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Split.AnomalousEval != 0 {
+		t.Errorf("anomalous_eval = %g, want the 0 the file gives", p.Split.AnomalousEval)
+	}
+	p, err = Parse([]byte(minimalTOML(t)), "minimal.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Split.AnomalousEval != DefaultAnomalousEval || p.Recipes[0].MinSteps != 1 || p.Recipes[0].MaxSteps != 2 {
+		t.Errorf("defaults: anomalous_eval %g, steps %d … %d", p.Split.AnomalousEval, p.Recipes[0].MinSteps, p.Recipes[0].MaxSteps)
 	}
 }
 

@@ -54,53 +54,53 @@ func (p *Plant) FeaturesFor(m *Machine) FeatureConfig {
 	return c
 }
 
-func (v *validator) features(anchor, key string, c *FeatureConfig, fs float64) {
+func (v *validator) features(loc, key string, c *FeatureConfig, fs float64) {
 	if c == nil {
 		return
 	}
 	if c.NFFT != 0 && (c.NFFT < 64 || c.NFFT > 65536 || c.NFFT&(c.NFFT-1) != 0) {
-		v.bad(anchor, key+".n_fft", "n_fft", "%d is not a power of two in 64 … 65536", c.NFFT)
+		v.bad(loc, key+".n_fft", "n_fft", "%d is not a power of two in 64 … 65536", c.NFFT)
 	}
 	if c.Hop < 0 || (c.NFFT > 0 && c.Hop > c.NFFT) {
-		v.bad(anchor, key+".hop", "hop", "%d must be in 1 … n_fft", c.Hop)
+		v.bad(loc, key+".hop", "hop", "%d must be in 1 … n_fft", c.Hop)
 	}
 	if c.Bands < 0 || c.Bands > 512 {
-		v.bad(anchor, key+".bands", "bands", "%d is outside 1 … 512", c.Bands)
+		v.bad(loc, key+".bands", "bands", "%d is outside 1 … 512", c.Bands)
 	}
 	switch c.Scale {
 	case "", "htk", "slaney":
 	default:
-		v.bad(anchor, key+".scale", "scale", "%q is not one of htk, slaney", c.Scale)
+		v.bad(loc, key+".scale", "scale", "%q is not one of htk, slaney", c.Scale)
 	}
 	switch c.Norm {
 	case "", "peak", "area":
 	default:
-		v.bad(anchor, key+".norm", "norm", "%q is not one of peak, area", c.Norm)
+		v.bad(loc, key+".norm", "norm", "%q is not one of peak, area", c.Norm)
 	}
-	v.rangeCheck(anchor, key+".fmin", "fmin", c.FMin, 0, fs/2, "Hz")
-	v.rangeCheck(anchor, key+".fmax", "fmax", c.FMax, 0, fs/2, "Hz")
+	v.rangeCheck(loc, key+".fmin", "fmin", c.FMin, 0, fs/2, "Hz")
+	v.rangeCheck(loc, key+".fmax", "fmax", c.FMax, 0, fs/2, "Hz")
 	if c.FMax != 0 && c.FMin >= c.FMax {
-		v.bad(anchor, key+".fmin", "fmin", "fmin %g Hz must be below fmax %g Hz", c.FMin, c.FMax)
+		v.bad(loc, key+".fmin", "fmin", "fmin %g Hz must be below fmax %g Hz", c.FMin, c.FMax)
 	}
 	if c.EnvelopeHz != nil {
-		v.pair(anchor, key+".envelope_hz", "envelope_hz", c.EnvelopeHz, 1, fs/2, "Hz")
+		v.pair(loc, key+".envelope_hz", "envelope_hz", c.EnvelopeHz, 1, fs/2, "Hz")
 	}
-	v.rangeCheck(anchor, key+".envelope_max_hz", "envelope_max_hz", c.EnvelopeMaxHz, 0, fs/2, "Hz")
+	v.rangeCheck(loc, key+".envelope_max_hz", "envelope_max_hz", c.EnvelopeMaxHz, 0, fs/2, "Hz")
 	for _, x := range []struct {
 		n  string
 		p  *int
 		hi float64
 	}{{"mask_copies", c.MaskCopies, 20}, {"mask_f", c.MaskF, 512}, {"mask_m_f", c.MaskMF, 10}, {"mask_t", c.MaskT, 100000}, {"mask_m_t", c.MaskMT, 10}} {
 		if x.p != nil {
-			v.rangeCheck(anchor, key+"."+x.n, x.n, float64(*x.p), 0, x.hi, "")
+			v.rangeCheck(loc, key+"."+x.n, x.n, float64(*x.p), 0, x.hi, "")
 		}
 	}
 	if c.MaskP != nil {
-		v.rangeCheck(anchor, key+".mask_p", "mask_p", *c.MaskP, 0, 1, "")
+		v.rangeCheck(loc, key+".mask_p", "mask_p", *c.MaskP, 0, 1, "")
 	}
 	switch c.MaskValue {
 	case "", "mean", "zero":
 	default:
-		v.bad(anchor, key+".mask_value", "mask_value", "%q is not one of mean, zero", c.MaskValue)
+		v.bad(loc, key+".mask_value", "mask_value", "%q is not one of mean, zero", c.MaskValue)
 	}
 }
