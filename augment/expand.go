@@ -286,24 +286,6 @@ func faultKind(e ledger.Entry) string {
 	return ""
 }
 
-// CheckOutput refuses an output folder that is, or is inside, the recordings
-// root (sources are never written), or that contains it.
-func CheckOutput(p *machine.Plant, out string) error {
-	ao, err1 := filepath.Abs(out)
-	ar, err2 := filepath.Abs(p.RecordingsRoot())
-	if err1 != nil || err2 != nil {
-		return fmt.Errorf("augment: cannot resolve %s", out)
-	}
-	ao, ar = filepath.Clean(ao), filepath.Clean(ar)
-	if ao == ar || strings.HasPrefix(ao, ar+string(filepath.Separator)) {
-		return fmt.Errorf("augment: output folder %s is inside the recordings root %s; choose a folder outside it", out, p.RecordingsRoot())
-	}
-	if strings.HasPrefix(ar, ao+string(filepath.Separator)) {
-		return fmt.Errorf("augment: output folder %s contains the recordings root %s; choose a folder beside it", out, p.RecordingsRoot())
-	}
-	return nil
-}
-
 // stem turns a recording's path inside its condition folder into a file
 // name stem: folders joined with "--", unsafe characters replaced.
 func stem(r *machine.Recording) string {

@@ -120,22 +120,6 @@ func TestVariantSeedDependsOnEveryInput(t *testing.T) {
 	}
 }
 
-func TestCheckOutputRefusesRecordingsRoot(t *testing.T) {
-	dir := t.TempDir()
-	p := &machine.Plant{Path: dir + "/plant.toml", Recordings: "recordings"}
-	for out, ok := range map[string]bool{
-		dir + "/recordings":     false,
-		dir + "/recordings/out": false,
-		dir:                     false, // contains the recordings
-		dir + "/out":            true,
-		dir + "/recordings-out": true,
-	} {
-		if err := CheckOutput(p, out); (err == nil) != ok {
-			t.Errorf("CheckOutput(%s) = %v", out, err)
-		}
-	}
-}
-
 func TestShardPartitionsWork(t *testing.T) {
 	keys := []string{"a/1", "a/2", "b/1", "c/9", "pump/duty/take-01.wav", "fan/x.wav"}
 	for n := 1; n <= 4; n++ {

@@ -33,6 +33,9 @@ pictures. Excluded files get no features.`,
 			if err != nil {
 				return err
 			}
+			if err := augment.CheckOutput(p, o.Out); err != nil {
+				return err
+			}
 			sums, err := runFeatures(cmd.Context(), g, o, p)
 			if err != nil {
 				return err

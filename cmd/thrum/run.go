@@ -55,6 +55,9 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	if err != nil {
 		return err
 	}
+	if err := augment.CheckOutput(p, o.Out); err != nil {
+		return err
+	}
 	sh, _ := o.shard()
 	if sh.N <= 1 {
 		if _, err := ledger.Merge(p, o.Out); err != nil {

@@ -8,6 +8,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"thrum/augment"
 	"thrum/machine"
 	"thrum/machine/ledger"
 	"thrum/split"
@@ -32,6 +33,9 @@ Lists go to DIR/splits/.`,
 			}
 			p, err := machine.Load(args[0])
 			if err != nil {
+				return err
+			}
+			if err := augment.CheckOutput(p, o.Out); err != nil {
 				return err
 			}
 			return runSplit(cmd.Context(), g, o, p)

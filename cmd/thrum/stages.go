@@ -112,10 +112,14 @@ func (o *stageOptions) renderer(g *globals) *renderer {
 	return newRenderer(g.stderr, mode)
 }
 
-// loadPlant loads a plant and scans its recordings (hashes, no levels).
-func loadPlant(plantPath string) (*machine.Inventory, error) {
+// loadPlant loads a plant, refuses an output root that overlaps its
+// recordings root, and scans its recordings (hashes, no levels).
+func loadPlant(plantPath, out string) (*machine.Inventory, error) {
 	p, err := machine.Load(plantPath)
 	if err != nil {
+		return nil, err
+	}
+	if err := augment.CheckOutput(p, out); err != nil {
 		return nil, err
 	}
 	return machine.Scan(p, machine.ScanOptions{})
@@ -200,7 +204,7 @@ frequencies, shaft rate, severity and seed, and can never be placed in eval or t
 }
 
 func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath, stage string) error {
-	inv, err := loadPlant(plantPath)
+	inv, err := loadPlant(plantPath, o.Out)
 	if err != nil {
 		return err
 	}
