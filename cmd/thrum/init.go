@@ -32,7 +32,7 @@ func newInitCmd(g *globals) *cobra.Command {
 			if err := os.Rename(tmp, path); err != nil {
 				return err
 			}
-			fmt.Fprintf(g.stdout, "wrote %s: edit it, put recordings under its recordings root, then run: thrum survey %s\n", path, path)
+			fmt.Fprintf(g.stdout, "wrote %s: edit it, put recordings under its recordings root and the background recordings where its [[background]] paths say, then run: thrum survey %s\n", path, path)
 			return nil
 		},
 	}

@@ -2,8 +2,9 @@
 // machinery: survey, physics-aware augmentation, synthetic fault cues,
 // evaluation-safe splits, features and an audit, with a ledger per machine.
 //
-// Exit codes: 0 success; 1 error; 2 bad usage; 3 the run finished but found
-// problems (survey --strict, a failed audit, rejected inputs).
+// Exit codes: 0 success; 1 error; 2 bad usage (unknown command, bad flag or
+// argument); 3 the run finished but found problems (survey --strict, a
+// failed audit, a replay mismatch); 130 interrupted (SIGINT or SIGTERM).
 package main
 
 import (
@@ -13,6 +14,7 @@ import (
 	"os"
 	"os/signal"
 	"runtime/debug"
+	"strings"
 	"syscall"
 )
 
@@ -22,6 +24,9 @@ const (
 	exitError    = 1
 	exitUsage    = 2
 	exitProblems = 3
+	// exitInterrupted is the shells' code for a process ended by SIGINT
+	// (128 + 2); thrum stops at a clean point and exits with it.
+	exitInterrupted = 130
 )
 
 // problemsError means the command ran but found problems; main maps it to
@@ -58,9 +63,9 @@ func exitCode(err error) int {
 	}
 	if errors.Is(err, context.Canceled) {
 		fmt.Fprintln(os.Stderr, "thrum: interrupted; what is written is complete: rerun the same command to resume")
-		return exitError
+	} else {
+		fmt.Fprintln(os.Stderr, "thrum:", err)
 	}
-	fmt.Fprintln(os.Stderr, "thrum:", err)
 	return exitCodeQuiet(err)
 }
 
@@ -74,6 +79,12 @@ func exitCodeQuiet(err error) int {
 	case errors.As(err, &pe):
 		return exitProblems
 	case errors.As(err, &ue):
+		return exitUsage
+	case errors.Is(err, context.Canceled):
+		return exitInterrupted
+	case strings.HasPrefix(err.Error(), "unknown command "):
+		// cobra's error for a command name it does not know has no type of
+		// its own.
 		return exitUsage
 	}
 	return exitError

@@ -10,6 +10,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strings"
 	"testing"
@@ -131,6 +132,21 @@ func TestDemoPipelineCleanAudit(t *testing.T) {
 	for _, f := range []string{"splits/lists.csv", "splits/plan.json", "features/index.csv"} {
 		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
 			t.Error(err)
+		}
+	}
+	// every name at the top of OUT is a machine folder or one of the names a
+	// machine id may not take
+	p, err := machine.Load(plant)
+	if err != nil {
+		t.Fatal(err)
+	}
+	top, err := os.ReadDir(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, e := range top {
+		if p.Machine(e.Name()) == nil && !slices.Contains(machine.ReservedOutNames(), e.Name()) {
+			t.Errorf("OUT/%s is neither a machine folder nor in machine.ReservedOutNames", e.Name())
 		}
 	}
 	// a second run redoes nothing and changes no byte

@@ -42,6 +42,8 @@ splits with an audit, features ready for training, and a ledger of everything do
 		SilenceErrors: true,
 		Version:       machine.ToolVersion,
 	}
+	// ToolVersion already starts with the tool's name.
+	root.SetVersionTemplate("{{.Version}}\n")
 	root.SetOut(stdout)
 	root.SetErr(stderr)
 	root.PersistentFlags().BoolVar(&g.noCaution, "no-caution", false, "do not print the recording-safety caution")
