@@ -1,6 +1,7 @@
 package machine
 
 import (
+	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
@@ -108,8 +109,11 @@ type ScanOptions struct {
 }
 
 // Scan walks the recordings root of a plant. Unreadable files and other
-// problems are recorded and the scan goes on; only a missing root is an error.
-func Scan(p *Plant, opt ScanOptions) (*Inventory, error) {
+// problems are recorded and the scan goes on; only a missing root, or ctx
+// being done (its error is returned, checked between and within files), is
+// an error. A .wav name that is not a regular file (a named pipe, socket or
+// device) is a problem and is never opened.
+func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 	root := p.RecordingsRoot()
 	if st, err := os.Stat(root); err != nil || !st.IsDir() {
 		return nil, fmt.Errorf("machine: %s: recordings root %q is not a folder", p.Path, root)
@@ -144,8 +148,16 @@ func Scan(p *Plant, opt ScanOptions) (*Inventory, error) {
 				continue
 			}
 			for _, f := range files {
-				rec := inv.scanOne(p, m, c, root, f, opt.Levels)
-				inv.Recordings = append(inv.Recordings, rec)
+				if err := ctx.Err(); err != nil {
+					return nil, err
+				}
+				rec, err := inv.scanOne(ctx, p, m, c, root, f, opt.Levels)
+				if err != nil {
+					return nil, err
+				}
+				if rec != nil {
+					inv.Recordings = append(inv.Recordings, rec)
+				}
 			}
 		}
 	}
@@ -167,7 +179,9 @@ func wavFiles(dir string) ([]string, error) {
 	return out, err
 }
 
-func (inv *Inventory) scanOne(p *Plant, m *Machine, c *Condition, root, file string, levels bool) *Recording {
+// scanOne reads one recording. It returns nil (and records a problem) for
+// a file that is not a regular file, and an error only when ctx is done.
+func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Condition, root, file string, levels bool) (*Recording, error) {
 	rel, _ := filepath.Rel(root, file)
 	rel = filepath.ToSlash(rel)
 	rec := &Recording{Machine: m.ID, Condition: c.Name, Rel: rel, Path: file, Label: LabelNormal, Group: rel}
@@ -189,12 +203,19 @@ func (inv *Inventory) scanOne(p *Plant, m *Machine, c *Condition, root, file str
 	problem := func(kind, format string, a ...any) {
 		inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: rel, Kind: kind, Msg: fmt.Sprintf(format, a...)})
 	}
-	sum, lv, r, err := hashAndRead(file, levels)
+	if err := CheckRegular(file); err != nil {
+		problem("unreadable", "%v; skipped", err)
+		return nil, nil
+	}
+	sum, lv, r, err := hashAndRead(ctx, file, levels)
+	if cerr := ctx.Err(); cerr != nil {
+		return nil, cerr
+	}
 	rec.SHA256 = sum
 	if err != nil {
 		rec.Err = err
 		problem("unreadable", "%v", err)
-		return rec
+		return rec, nil
 	}
 	rec.Format, rec.Frames, rec.Warnings, rec.Levels = r.Format(), r.Frames(), r.Warnings(), lv
 	for _, w := range rec.Warnings {
@@ -205,13 +226,13 @@ func (inv *Inventory) scanOne(p *Plant, m *Machine, c *Condition, root, file str
 	if rate != p.SampleRate {
 		rec.Err = fmt.Errorf("sample rate %d Hz, the plant's working rate is %d Hz", rate, p.SampleRate)
 		problem("rate-mismatch", "%v", rec.Err)
-		return rec
+		return rec, nil
 	}
 	rec.Clips = CutClips(rec.Frames, p.ClipFrames(), p.Remainder)
 	if len(rec.Clips) == 0 {
 		problem("short", "%.2f s is shorter than one clip (%g s)", rec.Seconds, p.ClipSeconds)
 	}
-	return rec
+	return rec, nil
 }
 
 // ClipFrames is the clip length in frames at the working rate.
@@ -234,17 +255,19 @@ func CutClips(frames, n int64, policy string) []Clip {
 }
 
 // hashAndRead hashes the file's bytes and parses its header in one pass;
-// with levels it also decodes every sample for the level statistics.
-func hashAndRead(file string, levels bool) (string, *Levels, *wavio.Reader, error) {
-	f, err := os.Open(file)
+// with levels it also decodes every sample for the level statistics. Every
+// read fails with ctx's error once ctx is done.
+func hashAndRead(ctx context.Context, file string, levels bool) (string, *Levels, *wavio.Reader, error) {
+	of, err := os.Open(file)
 	if err != nil {
 		return "", nil, nil, err
 	}
-	defer f.Close()
-	st, err := f.Stat()
+	defer of.Close()
+	st, err := of.Stat()
 	if err != nil {
 		return "", nil, nil, err
 	}
+	f := ContextReader(ctx, of)
 	h := sha256.New()
 	tee := io.TeeReader(f, h)
 	r, err := wavio.NewReader(tee, file, st.Size())
@@ -267,7 +290,7 @@ func hashAndRead(file string, levels bool) (string, *Levels, *wavio.Reader, erro
 }
 
 // drain hashes whatever of f has not been read yet.
-func drain(h hash.Hash, f *os.File) error {
+func drain(h hash.Hash, f io.Reader) error {
 	_, err := io.Copy(h, f)
 	return err
 }
@@ -392,8 +415,12 @@ func HashFile(path string) (string, error) {
 		return "", err
 	}
 	defer f.Close()
+	return hashReader(f)
+}
+
+func hashReader(r io.Reader) (string, error) {
 	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
+	if _, err := io.Copy(h, r); err != nil {
 		return "", err
 	}
 	return hex.EncodeToString(h.Sum(nil)), nil

@@ -1,6 +1,7 @@
 package machine
 
 import (
+	"context"
 	"os"
 	"path/filepath"
 	"testing"
@@ -63,7 +64,7 @@ func TestScanLabelsGroupsAndProblems(t *testing.T) {
 		t.Fatal(err)
 	}
 	p.ClipSeconds = 1
-	inv, err := Scan(p, ScanOptions{Levels: true})
+	inv, err := Scan(context.Background(), p, ScanOptions{Levels: true})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -2,6 +2,7 @@ package demoplant
 
 import (
 	"bytes"
+	"context"
 	"errors"
 	"io/fs"
 	"math"
@@ -182,7 +183,7 @@ func TestLayout(t *testing.T) {
 	}
 	// The inventory sees every recording, the session and the anomalous
 	// file, with no problems.
-	inv, err := machine.Scan(p, machine.ScanOptions{Levels: true})
+	inv, err := machine.Scan(context.Background(), p, machine.ScanOptions{Levels: true})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -3,6 +3,7 @@ package ledger
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -12,6 +13,8 @@ import (
 	"path/filepath"
 	"sort"
 	"strings"
+
+	"thrum/machine"
 )
 
 // SchemaError refuses a line written by a newer thrum: its format may hold
@@ -110,10 +113,34 @@ func Load(machineDir string) ([]Entry, error) {
 	return all, nil
 }
 
+// ReadFileContext is ReadFile that stops with ctx's error (wrapped, naming
+// the file) when ctx is done, for ledgers large enough to take a while.
+func ReadFileContext(ctx context.Context, path string) ([]Entry, error) {
+	f, err := os.Open(path)
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, fmt.Errorf("ledger: %w", err)
+	}
+	defer f.Close()
+	es, err := Read(machine.ContextReader(ctx, f), path)
+	if cerr := ctx.Err(); cerr != nil {
+		// The reader stopped mid-line: ctx, not the line, is the cause.
+		return nil, fmt.Errorf("ledger: %s: %w", path, cerr)
+	}
+	return es, err
+}
+
 // ReadTree reads the committed ledger of every machine folder under the
 // output root out (OUT/*/ledger.jsonl), in folder-name order. Journals and
 // parts are not read: they are not results until committed or merged.
 func ReadTree(out string) ([]Entry, error) {
+	return ReadTreeContext(context.Background(), out)
+}
+
+// ReadTreeContext is ReadTree that stops with ctx's error when ctx is done.
+func ReadTreeContext(ctx context.Context, out string) ([]Entry, error) {
 	files, err := filepath.Glob(filepath.Join(out, "*", FileName))
 	if err != nil {
 		return nil, fmt.Errorf("ledger: %w", err)
@@ -121,7 +148,7 @@ func ReadTree(out string) ([]Entry, error) {
 	sort.Strings(files)
 	var all []Entry
 	for _, f := range files {
-		es, err := ReadFile(f)
+		es, err := ReadFileContext(ctx, f)
 		if err != nil {
 			return nil, err
 		}
