@@ -7,12 +7,12 @@ import (
 	"math"
 	"os"
 	"path/filepath"
-	"runtime"
 	"sort"
-	"strings"
 	"sync"
 
 	"thrum/augment/room"
+	"thrum/machine"
+	"thrum/machine/pool"
 	"thrum/machine/wavio"
 )
 
@@ -41,7 +41,10 @@ type ChainOptions struct {
 }
 
 // ChainFolder runs a ChainOptions batch and returns the number of files and
-// of input frames processed.
+// of input frames processed. A file that cannot be read or processed does
+// not stop the others: they are all reported, by name, in a *pool.Failed
+// error returned with the counts of the files written. When ctx is done it
+// stops within one file per worker and returns ctx's error.
 func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, err error) {
 	paths, err := filepath.Glob(filepath.Join(o.In, "*.wav"))
 	if err != nil {
@@ -76,86 +79,77 @@ func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, 
 	if enc == 0 {
 		enc = wavio.PCM16
 	}
-	workers := o.Workers
-	if workers <= 0 {
-		workers = runtime.NumCPU()
-	}
 	plans := &Plans{}
 	pc := &powerCache{m: make(map[[2]int]float64)}
-	type result struct {
-		frames int64
-		err    error
-	}
-	idx := make(chan int)
-	res := make(chan result)
-	var wg sync.WaitGroup
-	type job struct {
-		i      int
-		y      []float64
-		rate   int
-		frames int64
-	}
-	for w := 0; w < workers; w++ {
-		// Each worker hands its finished clip to its own writer, so that
-		// computing the next clip overlaps the file system calls; two
-		// output buffers alternate between them.
-		free := make(chan []float64, 2)
-		free <- nil
-		free <- nil
-		jobs := make(chan job, 1)
-		wg.Add(2)
+	// One failed file does not stop the others: its error is kept in errs
+	// and reported with the rest at the end.
+	errs := make([]error, len(paths))
+	done := make([]int64, len(paths)) // input frames of each written file
+	written := make([]bool, len(paths))
+	ws := make([]chainWorker, pool.Size(o.Workers))
+	err = pool.Each(ctx, len(paths), o.Workers, func(ctx context.Context, w, i int) error {
+		cw := &ws[w]
+		if err := machine.CheckRegular(paths[i]); err != nil {
+			errs[i] = fmt.Errorf("augment: chain: %s: %w", paths[i], err)
+			return nil
+		}
+		y, rate, n, err := cw.st.run(&o, i, paths[i], plans, reverb, bg, bgRate, pc, cw.spare)
+		if err != nil {
+			cw.spare = y
+			errs[i] = fmt.Errorf("augment: chain: %s: %w", paths[i], err)
+			return nil
+		}
+		// The worker computes its next clip while this one is written:
+		// two buffers alternate between the computation and the write.
+		cw.spare = cw.wait()
+		out := filepath.Join(o.Out, filepath.Base(paths[i]))
+		fin := make(chan struct{})
+		cw.inflight, cw.buf = fin, y
 		go func() {
-			defer wg.Done()
-			for j := range jobs {
-				out := filepath.Join(o.Out, filepath.Base(paths[j.i]))
-				err := wavio.WriteFile(out, j.y, j.rate, 1, enc)
-				free <- j.y
-				if err != nil {
-					err = fmt.Errorf("augment: chain: %s: %w", paths[j.i], err)
-				}
-				res <- result{j.frames, err}
-			}
-		}()
-		go func() {
-			defer wg.Done()
-			defer close(jobs)
-			var st chainState
-			for i := range idx {
-				y := <-free
-				y, rate, n, err := st.run(&o, i, paths[i], plans, reverb, bg, bgRate, pc, y)
-				if err != nil {
-					free <- y
-					res <- result{0, fmt.Errorf("augment: chain: %s: %w", paths[i], err)}
-					continue
-				}
-				jobs <- job{i, y, rate, n}
-			}
-		}()
-	}
-	go func() {
-		defer close(idx)
-		for i := range paths {
-			select {
-			case idx <- i:
-			case <-ctx.Done():
+			defer close(fin)
+			if err := wavio.WriteFile(out, y, rate, 1, enc); err != nil {
+				errs[i] = fmt.Errorf("augment: chain: %s: %w", paths[i], err)
 				return
 			}
-		}
-	}()
-	go func() { wg.Wait(); close(res) }()
-	var errs []string
-	for r := range res {
-		if r.err != nil {
-			errs = append(errs, r.err.Error())
-			continue
-		}
-		files++
-		frames += r.frames
+			done[i], written[i] = n, true
+		}()
+		return nil
+	})
+	for w := range ws {
+		ws[w].wait()
 	}
-	if len(errs) > 0 {
-		return files, frames, fmt.Errorf("%d file(s) failed:\n  %s", len(errs), strings.Join(errs, "\n  "))
+	for i := range paths {
+		if written[i] {
+			files++
+			frames += done[i]
+		}
 	}
-	return files, frames, ctx.Err()
+	if err != nil {
+		return files, frames, err
+	}
+	return files, frames, pool.Collect(errs)
+}
+
+// chainWorker is one pool worker's state: its buffers and the write it
+// has in flight.
+type chainWorker struct {
+	st       chainState
+	spare    []float64
+	buf      []float64
+	inflight chan struct{}
+}
+
+// wait waits for the worker's write in flight, if any, and returns its
+// buffer, free again (nil when no write was in flight).
+func (cw *chainWorker) wait() []float64 {
+	if cw.inflight == nil {
+		return nil
+	}
+	<-cw.inflight
+	cw.inflight = nil
+	b := cw.buf
+	cw.buf = nil
+	return b
 }
 
 // chainState is one worker's reusable buffers: the decoded clip and two

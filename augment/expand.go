@@ -11,7 +11,6 @@ import (
 	"hash/fnv"
 	"path"
 	"path/filepath"
-	"runtime"
 	"sort"
 	"strings"
 	"sync"
@@ -19,23 +18,9 @@ import (
 	"thrum/augment/room"
 	"thrum/machine"
 	"thrum/machine/ledger"
+	"thrum/machine/pool"
 	"thrum/machine/wavio"
 )
-
-// Event reports progress of a stage. Progress callbacks are called from one
-// goroutine at a time (never concurrently), in completion order.
-type Event struct {
-	Stage   string
-	Machine string
-	// Done and Total count work items: source recordings, or files for the
-	// features stage (Unit says which).
-	Done, Total int
-	Unit        string
-	// Written and Rejected count outputs so far.
-	Written, Rejected int
-	// Path is the recording just finished.
-	Path string
-}
 
 // Shard selects a deterministic share of the work: job j (a machine and
 // recording) belongs to shard I of N when a hash of its key is I modulo N.
@@ -56,7 +41,8 @@ func (s Shard) Has(key string) bool {
 type Options struct {
 	// Out is the output root; it must not be inside the recordings root.
 	Out string
-	// Workers is the number of clips processed at once (0 = all cores).
+	// Workers is the number of recordings processed at once
+	// (pool.Size(Workers) goroutines).
 	Workers int
 	// Encoding of the written clips (0 = 16-bit PCM).
 	Encoding wavio.Encoding
@@ -70,8 +56,9 @@ type Options struct {
 	// a training group; variants and fault cues are made only for those
 	// (the split would exclude the others). Nil: every group.
 	Trains func(machineID, group string) bool
-	// Progress, when set, is called after each recording (see Event).
-	Progress func(Event)
+	// Progress, when set, is called after each clip (counted in clips)
+	// from one goroutine at a time.
+	Progress func(pool.Event)
 }
 
 // Summary counts what a stage did per machine id.
@@ -105,6 +92,7 @@ type jobResult struct {
 	job     job
 	entries []ledger.Entry
 	reused  int
+	ticked  int64 // clips reported to the progress reporter
 	err     error
 }
 
@@ -115,10 +103,6 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 	}
 	if err := CheckOutput(p, opt.Out); err != nil {
 		return nil, err
-	}
-	workers := opt.Workers
-	if workers <= 0 {
-		workers = runtime.NumCPU()
 	}
 	envs := map[string]*env{}
 	plans := &Plans{} // resampler plans, shared by every machine of the run
@@ -160,71 +144,60 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 		defer j.Close()
 	}
 
-	ctx, cancel := context.WithCancel(ctx)
-	defer cancel()
-	in := make(chan job)
-	out := make(chan jobResult)
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for j := range in {
-				e := envs[j.m.ID]
-				var r jobResult
-				if stage == ledger.Faults {
-					r = e.faultJob(ctx, j)
-				} else {
-					r = e.expandJob(ctx, j)
-				}
-				select {
-				case out <- r:
-				case <-ctx.Done():
-					return
-				}
-			}
-		}()
+	var clips int64
+	for _, j := range jobs {
+		clips += int64(len(j.rec.Clips))
 	}
-	go func() {
-		defer close(in)
-		for _, j := range jobs {
-			select {
-			case in <- j:
-			case <-ctx.Done():
-				return
-			}
-		}
-	}()
-	go func() { wg.Wait(); close(out) }()
-
+	prog := pool.NewReporter(opt.Progress, string(stage), pool.UnitClips, clips)
+	for _, e := range envs {
+		e.progress = prog
+	}
 	results := make([][]ledger.Entry, len(jobs))
-	sums := map[string]*Summary{}
-	var firstErr error
-	done, written, rejected := 0, 0, 0
-	for r := range out {
+	reused := make([]int, len(jobs))
+	err := pool.Each(ctx, len(jobs), opt.Workers, func(ctx context.Context, _, i int) error {
+		j := jobs[i]
+		e := envs[j.m.ID]
+		var r jobResult
+		if stage == ledger.Faults {
+			r = e.faultJob(ctx, j)
+		} else {
+			r = e.expandJob(ctx, j)
+		}
 		if r.err != nil {
-			if firstErr == nil {
-				firstErr = r.err
-				cancel()
-			}
-			continue
+			return r.err
 		}
-		results[r.job.index] = r.entries
-		s := sums[r.job.m.ID]
-		if s == nil {
-			s = &Summary{Machine: r.job.m.ID, Rejected: map[string]int{}, Faults: map[string]int{}}
-			sums[r.job.m.ID] = s
-		}
-		s.Clips += len(r.job.rec.Clips)
-		s.Reused += r.reused
+		results[i], reused[i] = r.entries, r.reused
+		// The clips a job did not report one by one (a recording with no
+		// fault plan, say) count as done with it.
+		w, rej := 0, 0
 		for _, e := range r.entries {
 			if e.Kind == ledger.KindRejected {
+				rej++
+			} else {
+				w++
+			}
+		}
+		prog.Add(int64(len(j.rec.Clips))-r.ticked, w, rej, j.m.ID, j.rec.Rel)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	sums := map[string]*Summary{}
+	for i, j := range jobs {
+		s := sums[j.m.ID]
+		if s == nil {
+			s = &Summary{Machine: j.m.ID, Rejected: map[string]int{}, Faults: map[string]int{}}
+			sums[j.m.ID] = s
+		}
+		s.Clips += len(j.rec.Clips)
+		s.Reused += reused[i]
+		for _, e := range results[i] {
+			if e.Kind == ledger.KindRejected {
 				s.Rejected[e.Reason]++
-				rejected++
 				continue
 			}
 			s.Written++
-			written++
 			switch e.Origin {
 			case machine.OriginRecorded:
 				s.Recorded++
@@ -234,16 +207,6 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 				s.Faults[e.Fault.Kind]++
 			}
 		}
-		done++
-		if opt.Progress != nil {
-			opt.Progress(Event{Stage: string(stage), Machine: r.job.m.ID, Done: done, Total: len(jobs), Unit: "recordings", Written: written, Rejected: rejected, Path: r.job.rec.Rel})
-		}
-	}
-	if firstErr != nil {
-		return nil, firstErr
-	}
-	if err := ctx.Err(); err != nil && done < len(jobs) {
-		return nil, err
 	}
 	// commit each machine's section in job order
 	byMachine := map[string][]ledger.Entry{}
@@ -318,6 +281,7 @@ type env struct {
 	bgFrames map[string]int64
 	previous map[string]ledger.Entry
 	journal  *ledger.Journal
+	progress *pool.Reporter
 
 	plans *Plans
 
@@ -471,7 +435,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 		folder = "anomalous"
 	}
 	scratch := &workspace{}
-	err := r.ReadClips(func(c machine.Clip, x []float64) error {
+	err := r.ReadClips(e.counted(&res, func(c machine.Clip, x []float64) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
@@ -499,11 +463,24 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 			}
 		}
 		return nil
-	})
+	}))
 	if err != nil {
 		res.err = fmt.Errorf("augment: %s: %w", r.Rel, err)
 	}
 	return res
+}
+
+// counted wraps a per-clip function so that every clip it finishes is
+// reported as progress.
+func (e *env) counted(res *jobResult, fn func(machine.Clip, []float64) error) func(machine.Clip, []float64) error {
+	return func(c machine.Clip, x []float64) error {
+		if err := fn(c, x); err != nil {
+			return err
+		}
+		res.ticked++
+		e.progress.Add(1, 0, 0, res.job.m.ID, res.job.rec.Rel)
+		return nil
+	}
 }
 
 // reuse appends a previous entry that still describes want (same draw,

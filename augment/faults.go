@@ -30,7 +30,7 @@ func (e *env) faultJob(ctx context.Context, j job) jobResult {
 		return res
 	}
 	st := stem(r)
-	err := r.ReadClips(func(c machine.Clip, x []float64) error {
+	err := r.ReadClips(e.counted(&res, func(c machine.Clip, x []float64) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
@@ -53,7 +53,7 @@ func (e *env) faultJob(ctx context.Context, j job) jobResult {
 			}
 		}
 		return nil
-	})
+	}))
 	if err != nil {
 		res.err = fmt.Errorf("augment: faults: %s: %w", r.Rel, err)
 	}
