@@ -3,23 +3,29 @@ package features
 import (
 	"context"
 	"encoding/binary"
+	"errors"
 	"fmt"
+	"io"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
-	"runtime"
 	"sort"
 	"strings"
-	"sync"
 	"unsafe"
 
+	"thrum/machine"
+	"thrum/machine/pool"
 	"thrum/machine/wavio"
 )
 
 // FolderLogMel computes the log-mel features of every .wav file of a folder
 // and writes one float32 .npy (frames × bands) per file into out, with the
 // same base name. It is the plain batch tool (no plant, no ledger); it
-// returns the number of files and of frames written.
+// returns the number of files and of frames written. A file that cannot be
+// read completely gets no .npy and does not stop the others: every such
+// file is named in a *pool.Failed error returned with the counts. When ctx
+// is done it stops within one file per worker and returns ctx's error.
 func FolderLogMel(ctx context.Context, in, out string, cfg Config, workers int) (files, frames int, err error) {
 	paths, err := filepath.Glob(filepath.Join(in, "*.wav"))
 	if err != nil {
@@ -32,80 +38,68 @@ func FolderLogMel(ctx context.Context, in, out string, cfg Config, workers int) 
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		return 0, 0, err
 	}
-	if workers <= 0 {
-		workers = runtime.NumCPU()
+	type folderWorker struct {
+		lm   *LogMel
+		rate int
+		x    []float64
+		feat []float32
+		buf  []byte
 	}
-	type result struct {
-		frames int
-		err    error
-	}
-	idx := make(chan int)
-	res := make(chan result)
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			var lm *LogMel
-			var rate int
-			var x []float64
-			var feat []float32
-			var buf []byte
-			for i := range idx {
-				n, err := func() (int, error) {
-					f, err := wavio.Open(paths[i])
-					if err != nil {
-						return 0, err
-					}
-					defer f.Close()
-					fm := f.Format()
-					if lm == nil || rate != fm.SampleRate {
-						if lm, err = NewLogMel(cfg, float64(fm.SampleRate)); err != nil {
-							return 0, err
-						}
-						rate = fm.SampleRate
-					}
-					x, err = readMono(f, x)
-					if err != nil {
-						return 0, err
-					}
-					var nf int
-					feat, nf = lm.Compute(feat, x)
-					name := strings.TrimSuffix(filepath.Base(paths[i]), filepath.Ext(paths[i])) + ".npy"
-					buf, err = writeNPYFast(filepath.Join(out, name), buf, feat, nf, lm.Bands())
-					return nf, err
-				}()
-				if err != nil {
-					err = fmt.Errorf("features: %s: %w", paths[i], err)
+	ws := make([]folderWorker, pool.Size(workers))
+	// One bad file does not stop the others: its error is kept in errs,
+	// and its .npy is not written (nor one left from an earlier run).
+	errs := make([]error, len(paths))
+	done := make([]int, len(paths))
+	written := make([]bool, len(paths))
+	err = pool.Each(ctx, len(paths), workers, func(ctx context.Context, w, i int) error {
+		fw := &ws[w]
+		name := strings.TrimSuffix(filepath.Base(paths[i]), filepath.Ext(paths[i])) + ".npy"
+		dst := filepath.Join(out, name)
+		n, err := func() (int, error) {
+			if err := machine.CheckRegular(paths[i]); err != nil {
+				return 0, err
+			}
+			f, err := wavio.Open(paths[i])
+			if err != nil {
+				return 0, err
+			}
+			defer f.Close()
+			fm := f.Format()
+			if fw.lm == nil || fw.rate != fm.SampleRate {
+				if fw.lm, err = NewLogMel(cfg, float64(fm.SampleRate)); err != nil {
+					return 0, err
 				}
-				res <- result{n, err}
+				fw.rate = fm.SampleRate
 			}
+			fw.x, err = readMono(f, fw.x)
+			if err != nil {
+				return 0, err
+			}
+			var nf int
+			fw.feat, nf = fw.lm.Compute(fw.feat, fw.x)
+			fw.buf, err = writeNPYFast(dst, fw.buf, fw.feat, nf, fw.lm.Bands())
+			return nf, err
 		}()
-	}
-	go func() {
-		defer close(idx)
-		for i := range paths {
-			select {
-			case idx <- i:
-			case <-ctx.Done():
-				return
+		if err != nil {
+			if rerr := os.Remove(dst); rerr != nil && !errors.Is(rerr, fs.ErrNotExist) {
+				err = fmt.Errorf("%w (and an earlier %s could not be removed: %v)", err, name, rerr)
 			}
+			errs[i] = fmt.Errorf("features: %s: %w", paths[i], err)
+			return nil
 		}
-	}()
-	go func() { wg.Wait(); close(res) }()
-	var errs []string
-	for r := range res {
-		if r.err != nil {
-			errs = append(errs, r.err.Error())
-			continue
+		done[i], written[i] = n, true
+		return nil
+	})
+	for i := range paths {
+		if written[i] {
+			files++
+			frames += done[i]
 		}
-		files++
-		frames += r.frames
 	}
-	if len(errs) > 0 {
-		return files, frames, fmt.Errorf("%d file(s) failed:\n  %s", len(errs), strings.Join(errs, "\n  "))
+	if err != nil {
+		return files, frames, err
 	}
-	return files, frames, ctx.Err()
+	return files, frames, pool.Collect(errs)
 }
 
 // readMono reads a whole file as mono samples, reusing dst.
@@ -125,8 +119,14 @@ func readMono(f *wavio.File, dst []float64) ([]float64, error) {
 	for got < int(n) {
 		k, err := f.ReadFrames(inter[got*ch:])
 		got += k
-		if err != nil {
+		if err == io.EOF && got == int(n) {
 			break
+		}
+		if err == io.EOF {
+			return nil, fmt.Errorf("data ends at frame %d of %d", got, n)
+		}
+		if err != nil {
+			return nil, err
 		}
 	}
 	inter = inter[:got*ch]
