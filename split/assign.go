@@ -1,6 +1,7 @@
 package split
 
 import (
+	"context"
 	"crypto/sha256"
 	"encoding/binary"
 	"fmt"
@@ -253,11 +254,17 @@ type groupKey struct{ machine, group string }
 // label or condition, empty group), for a training file whose speed (the
 // condition's rpm × Speed) lies in a hold-out band of its machine, and when
 // the normal groups of a machine and condition are fewer than the splits
-// with a non-zero fraction. Rows are sorted by machine, then path.
-func Assign(items []Item, p Policy) ([]Row, error) {
+// with a non-zero fraction. Rows are sorted by machine, then path. When ctx
+// is done it stops and returns ctx's error.
+func Assign(ctx context.Context, items []Item, p Policy) ([]Row, error) {
 	seen := map[string]bool{}
 	groups := map[groupKey][]int{}
 	for i, it := range items {
+		if i%1024 == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+		}
 		if it.Path == "" {
 			return nil, fmt.Errorf("split: item %d: empty path", i)
 		}
@@ -299,6 +306,9 @@ func Assign(items []Item, p Policy) ([]Row, error) {
 	normal := map[mc]map[string]bool{}
 	rows := make([]Row, len(items))
 	for k, idx := range groups {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		f, err := p.FractionsFor(k.machine)
 		if err != nil {
 			return nil, err

@@ -2,6 +2,7 @@ package split
 
 import (
 	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"math/rand/v2"
@@ -123,7 +124,7 @@ func TestAssignProperties(t *testing.T) {
 	rng := rand.New(rand.NewPCG(2026, 12))
 	for it := range 300 {
 		p, items := randomPlant(rng, 0)
-		rows, err := Assign(items, p)
+		rows, err := Assign(context.Background(), items, p)
 		if err != nil {
 			var tf *TooFewGroupsError
 			if errors.As(err, &tf) {
@@ -142,7 +143,7 @@ func TestAssignStable(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 8))
 	for it := range 100 {
 		p, items := randomPlant(rng, 3)
-		before, err := Assign(items, p)
+		before, err := Assign(context.Background(), items, p)
 		if err != nil {
 			t.Fatalf("iteration %d: %v", it, err)
 		}
@@ -155,7 +156,7 @@ func TestAssignStable(t *testing.T) {
 				Origin: machine.OriginRecorded, Label: machine.LabelNormal, Group: grp, Source: grp, SourceSHA256: "n" + grp, Speed: 1})
 		}
 		rng.Shuffle(len(more), func(i, j int) { more[i], more[j] = more[j], more[i] })
-		after, err := Assign(more, p)
+		after, err := Assign(context.Background(), more, p)
 		if err != nil {
 			t.Fatalf("iteration %d: %v", it, err)
 		}
@@ -187,20 +188,20 @@ func TestAssignErrors(t *testing.T) {
 	}
 	t.Run("too few groups", func(t *testing.T) {
 		p, items := base(2)
-		_, err := Assign(items, p)
+		_, err := Assign(context.Background(), items, p)
 		var tf *TooFewGroupsError
 		if !errors.As(err, &tf) || tf.Machine != "pump-a1" || tf.Condition != "nominal" || tf.Groups != 2 {
 			t.Fatalf("got %v, want too-few-groups error for pump-a1/nominal", err)
 		}
 		// With the test fraction at zero two groups can fill train and eval.
 		p.Default = Fractions{Train: 0.8, Eval: 0.2}
-		if _, err := Assign(items, p); err != nil {
+		if _, err := Assign(context.Background(), items, p); err != nil {
 			t.Fatalf("two splits, two groups: %v", err)
 		}
 	})
 	t.Run("speed into hold-out band", func(t *testing.T) {
 		p, items := base(20)
-		rows, err := Assign(items, p)
+		rows, err := Assign(context.Background(), items, p)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -214,7 +215,7 @@ func TestAssignErrors(t *testing.T) {
 		// 1480 × 1.2 = 1776 rpm lies in 1800 ± 2 % (1764 ... 1836).
 		items = append(items, Item{Path: "v.wav", Machine: "pump-a1", Condition: "nominal",
 			Origin: machine.OriginAugmented, Label: machine.LabelNormal, Group: trainGroup, Speed: 1.2})
-		if _, err := Assign(items, p); err == nil {
+		if _, err := Assign(context.Background(), items, p); err == nil {
 			t.Fatal("no error for a training variant inside the hold-out band")
 		}
 	})
@@ -230,13 +231,13 @@ func TestAssignErrors(t *testing.T) {
 		} {
 			p, items := base(5)
 			tc.mod(&items[0])
-			if _, err := Assign(items, p); err == nil {
+			if _, err := Assign(context.Background(), items, p); err == nil {
 				t.Errorf("%s: no error", tc.name)
 			}
 		}
 		p, items := base(5)
 		items = append(items, items[0])
-		if _, err := Assign(items, p); err == nil {
+		if _, err := Assign(context.Background(), items, p); err == nil {
 			t.Error("duplicate path: no error")
 		}
 	})
@@ -264,7 +265,7 @@ func TestUnitFractions(t *testing.T) {
 func TestListsRoundTrip(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 6))
 	p, items := randomPlant(rng, 3)
-	rows, err := Assign(items, p)
+	rows, err := Assign(context.Background(), items, p)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -292,7 +293,7 @@ func TestListsRoundTrip(t *testing.T) {
 	dir2 := t.TempDir()
 	shuffled := append([]Item(nil), items...)
 	rng.Shuffle(len(shuffled), func(i, j int) { shuffled[i], shuffled[j] = shuffled[j], shuffled[i] })
-	rows2, err := Assign(shuffled, p)
+	rows2, err := Assign(context.Background(), shuffled, p)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -315,7 +316,7 @@ func TestListsRoundTrip(t *testing.T) {
 	if err != nil || fmt.Sprint(ss) != fmt.Sprint(Summarize(rows)) {
 		t.Errorf("summary round trip: %v", err)
 	}
-	again, err := Assign(items, plan.Policy)
+	again, err := Assign(context.Background(), items, plan.Policy)
 	if err != nil || fmt.Sprint(again) != fmt.Sprint(rows) {
 		t.Fatalf("assignment from plan.json differs (%v)", err)
 	}

@@ -168,13 +168,16 @@ func (o AuditOptions) load() LoadFunc {
 // Audit re-derives the evaluation safety of the output tree out from its
 // files alone: OUT/<machine>/ledger.jsonl, OUT/splits/{lists.csv,plan.json},
 // OUT/features/<machine>/stats.json and the audio. It returns an error only
-// when the tree cannot be read; broken rules are violations in the report.
-func Audit(out string, opt AuditOptions) (*Report, error) {
+// when the tree cannot be read, or ctx's error when ctx is done (checked
+// between files and within large ones); broken rules are violations in the
+// report.
+func Audit(ctx context.Context, out string, opt AuditOptions) (*Report, error) {
+	opt.Load = loadRegular(opt.load())
 	rows, plan, err := ReadSplits(out)
 	if err != nil {
 		return nil, err
 	}
-	entries, err := ledger.ReadTree(out)
+	entries, err := ledger.ReadTreeContext(ctx, out)
 	if err != nil {
 		return nil, err
 	}
@@ -192,7 +195,10 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	}
 
 	// Re-derive the assignment and compare.
-	want, aerr := Assign(ItemsFromLedger(entries), plan.Policy)
+	want, aerr := Assign(ctx, ItemsFromLedger(entries), plan.Policy)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	if aerr != nil {
 		rep.add(RuleReDerived, "the ledgers cannot be assigned under plan.json: "+aerr.Error(), filepath.ToSlash(filepath.Join(SplitsDir, PlanFile)))
 	} else {
@@ -221,7 +227,10 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 	// Every listed file exists, matches its listed hash and its ledger line.
 	hashes := map[string]string{}
 	for _, r := range active {
-		h, err := machine.HashFile(filepath.Join(out, filepath.FromSlash(r.Path)))
+		h, err := machine.HashFileContext(ctx, filepath.Join(out, filepath.FromSlash(r.Path)))
+		if cerr := ctx.Err(); cerr != nil {
+			return nil, cerr
+		}
 		if err != nil {
 			rep.add(RuleListed, "cannot read: "+err.Error(), r.Path)
 			continue
@@ -301,12 +310,23 @@ func Audit(out string, opt AuditOptions) (*Report, error) {
 				other = append(other, r.Path)
 			}
 		}
-		if err := nearDuplicates(context.TODO(), rep, out, train, other, opt); err != nil {
+		if err := nearDuplicates(ctx, rep, out, train, other, opt); err != nil {
 			return nil, err
 		}
 	}
 	rep.finish()
 	return rep, nil
+}
+
+// loadRegular wraps load so that a path that is not a regular file is
+// never opened (a named pipe would block).
+func loadRegular(load LoadFunc) LoadFunc {
+	return func(path string) ([]float64, float64, error) {
+		if err := machine.CheckRegular(path); err != nil {
+			return nil, 0, err
+		}
+		return load(path)
+	}
 }
 
 // checkRows applies the rules that need only the rows and the plan.
@@ -403,12 +423,20 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 
 // AuditLists runs the near-duplicate search between two sets of audio files
 // with no ledger or plan: every eval file against every training file. It
-// also flags byte-identical files.
-func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, error) {
+// also flags byte-identical files. When ctx is done it stops and returns
+// ctx's error.
+func AuditLists(ctx context.Context, trainPaths, evalPaths []string, opt AuditOptions) (*Report, error) {
+	opt.Load = loadRegular(opt.load())
 	rep := &Report{}
 	hashes := map[string]string{}
 	for _, p := range append(append([]string(nil), trainPaths...), evalPaths...) {
-		h, err := machine.HashFile(p)
+		if err := machine.CheckRegular(p); err != nil {
+			return nil, fmt.Errorf("split: %s: %w", p, err)
+		}
+		h, err := machine.HashFileContext(ctx, p)
+		if cerr := ctx.Err(); cerr != nil {
+			return nil, cerr
+		}
 		if err != nil {
 			return nil, err
 		}
@@ -425,7 +453,7 @@ func AuditLists(trainPaths, evalPaths []string, opt AuditOptions) (*Report, erro
 	}
 	rep.ran(RuleExactDup, len(evalPaths))
 	if !opt.SkipNearDuplicates {
-		if err := nearDuplicates(context.TODO(), rep, "", trainPaths, evalPaths, opt); err != nil {
+		if err := nearDuplicates(ctx, rep, "", trainPaths, evalPaths, opt); err != nil {
 			return nil, err
 		}
 	}
@@ -440,6 +468,9 @@ func nearDuplicates(ctx context.Context, rep *Report, root string, train, eval [
 	res, err := neardup.Search(ctx, root, train, eval, neardup.Options{
 		MaxBER: opt.MaxBER, Load: opt.load(), Workers: opt.Workers, Progress: opt.Progress})
 	if err != nil {
+		if ctx.Err() != nil {
+			return ctx.Err()
+		}
 		return fmt.Errorf("split: near-duplicate search: %w", err)
 	}
 	all := append(append([]string(nil), train...), eval...)

@@ -2,6 +2,7 @@ package split
 
 import (
 	"bytes"
+	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
@@ -71,7 +72,7 @@ func writeTree(t *testing.T, dir string) ([]Row, Policy) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rows, err := Assign(ItemsFromLedger(entries), p)
+	rows, err := Assign(context.Background(), ItemsFromLedger(entries), p)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -108,7 +109,7 @@ func fileHash(t *testing.T, p string) string {
 func TestAuditClean(t *testing.T) {
 	dir := t.TempDir()
 	writeTree(t, dir)
-	rep, err := Audit(dir, AuditOptions{})
+	rep, err := Audit(context.Background(), dir, AuditOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -204,7 +205,7 @@ func TestAuditLeaks(t *testing.T) {
 	// 7. Statistics fitted on an eval clip as well.
 	writeStats(t, dir, []string{trainRec.Path, evalRec.Path})
 
-	rep, err := Audit(dir, AuditOptions{})
+	rep, err := Audit(context.Background(), dir, AuditOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -262,7 +263,7 @@ func TestAuditLists(t *testing.T) {
 	bad := filepath.Join(dir, "eval-bad.wav")
 	os.WriteFile(bad, []byte("not a wav file"), 0o644)
 	eval = append(eval, bad)
-	rep, err := AuditLists(train, eval, AuditOptions{})
+	rep, err := AuditLists(context.Background(), train, eval, AuditOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -47,9 +47,9 @@
 //
 //	entries, _ := ledger.ReadTree(out)
 //	pol := split.PolicyFromPlant(plant)
-//	rows, err := split.Assign(split.ItemsFromLedger(entries), pol)
+//	rows, err := split.Assign(ctx, split.ItemsFromLedger(entries), pol)
 //	err = split.WriteSplits(out, rows, pol)
-//	rep, err := split.Audit(out, split.AuditOptions{})  // rep.OK()
+//	rep, err := split.Audit(ctx, out, split.AuditOptions{})  // rep.OK()
 //
 // Expansion should draw only backgrounds with
 // AssignBackgrounds(ids, pol)[id] == "train".

@@ -1,6 +1,7 @@
 package split_test
 
 import (
+	"context"
 	"fmt"
 
 	"thrum/machine"
@@ -24,7 +25,7 @@ func ExampleAssign() {
 			Origin: machine.OriginRecorded, Label: machine.LabelNormal, Group: "high-0", Speed: 1},
 		split.Item{Path: "fan-b2/high/r0-v1.wav", Machine: "fan-b2", Condition: "high",
 			Origin: machine.OriginAugmented, Label: machine.LabelNormal, Group: "high-0", Speed: 1.02})
-	rows, err := split.Assign(items, p)
+	rows, err := split.Assign(context.Background(), items, p)
 	if err != nil {
 		fmt.Println(err)
 		return
@@ -47,7 +48,7 @@ func ExampleTooFewGroupsError() {
 		{Path: "a.wav", Machine: "pump-a1", Condition: "nominal", Origin: machine.OriginRecorded, Label: machine.LabelNormal, Group: "a", Speed: 1},
 		{Path: "b.wav", Machine: "pump-a1", Condition: "nominal", Origin: machine.OriginRecorded, Label: machine.LabelNormal, Group: "b", Speed: 1},
 	}
-	_, err := split.Assign(items, p)
+	_, err := split.Assign(context.Background(), items, p)
 	fmt.Println(err)
 	// Output:
 	// split: machine "pump-a1" condition "nominal": 2 normal recording group(s) cannot fill the 3 splits with a non-zero fraction (train, eval, test); record more sessions or set that split's fraction to 0
