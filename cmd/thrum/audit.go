@@ -47,7 +47,7 @@ column; only the near-duplicate search runs.`,
 			var err error
 			switch {
 			case len(args) == 1 && len(o.Train) == 0 && len(o.Eval) == 0:
-				rep, err = split.Audit(args[0], opt)
+				rep, err = split.Audit(cmd.Context(), args[0], opt)
 			case len(args) == 0 && len(o.Train) > 0 && len(o.Eval) > 0:
 				var tr, ev []string
 				if tr, err = expandLists(o.Train); err != nil {
@@ -56,7 +56,7 @@ column; only the near-duplicate search runs.`,
 				if ev, err = expandLists(o.Eval); err != nil {
 					return err
 				}
-				rep, err = split.AuditLists(tr, ev, opt)
+				rep, err = split.AuditLists(cmd.Context(), tr, ev, opt)
 			default:
 				return &usageError{fmt.Errorf("give an output root, or both --train and --eval")}
 			}

@@ -34,11 +34,11 @@ expand for datasets.`,
 			o.Encoding = e
 			t0 := time.Now()
 			n, frames, err := augment.ChainFolder(cmd.Context(), o)
-			if err != nil {
+			if err != nil && !isFailedFiles(err) {
 				return err
 			}
 			fmt.Fprintf(g.stdout, "files=%d frames_in=%d wall_s=%.3f\n", n, frames, time.Since(t0).Seconds())
-			return nil
+			return failedFiles(err)
 		},
 	}
 	f := cmd.Flags()
@@ -50,7 +50,7 @@ expand for datasets.`,
 	f.Float64Var(&o.OffsetStep, "offset-step", 1, "background offset step in seconds")
 	f.IntVar(&o.OffsetCycle, "offset-cycle", 20, "background offsets repeat after this many files")
 	f.Float64Var(&o.GainDB, "gain", 0, "final gain in dB")
-	f.IntVarP(&o.Workers, "jobs", "j", 0, "files processed at once (0 = all cores)")
+	f.IntVarP(&o.Workers, "jobs", "j", 0, "files processed at once (0 = one per available CPU)")
 	f.StringVar(&enc, "encoding", "pcm16", "output encoding: pcm16, pcm24 or float32")
 	return cmd
 }

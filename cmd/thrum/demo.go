@@ -30,7 +30,7 @@ stage on it. It is the quickest way to see what thrum does.`,
 		},
 	}
 	cmd.Flags().Uint64Var(&o.Seed, "seed", 0, "seed of the invented plant (0 = the built-in one, chosen so every condition fills train, eval and test)")
-	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "clips processed at once (0 = all cores)")
+	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "clips processed at once (0 = one per available CPU)")
 	cmd.Flags().BoolVarP(&o.Quiet, "quiet", "q", false, "no progress output")
 	return cmd
 }

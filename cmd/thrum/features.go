@@ -47,7 +47,7 @@ pictures. Excluded files get no features.`,
 		},
 	}
 	cmd.Flags().StringVarP(&o.Out, "out", "o", "", "output root (required)")
-	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "files processed at once (0 = all cores)")
+	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "files processed at once (0 = one per available CPU)")
 	cmd.Flags().BoolVarP(&o.Quiet, "quiet", "q", false, "no progress output")
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "progress as JSON lines on stdout")
 	return cmd
@@ -77,9 +77,7 @@ func runFeatures(ctx context.Context, g *globals, o stageOptions, p *machine.Pla
 	}
 	rd := o.renderer(g)
 	sums, err := features.RunStage(ctx, p, inputs, features.StageOptions{Out: o.Out, Workers: o.Workers,
-		Progress: func(done, total int) {
-			rd.event(augment.Event{Stage: "features", Done: done, Total: total, Unit: "files"})
-		}})
+		Progress: rd.event})
 	rd.finish()
 	return sums, err
 }

@@ -31,11 +31,11 @@ log10(mel power + 1e-10) instead, the form of a common numpy recipe.`,
 			}
 			t0 := time.Now()
 			n, frames, err := features.FolderLogMel(cmd.Context(), args[0], out, cfg, workers)
-			if err != nil {
+			if err != nil && !isFailedFiles(err) {
 				return err
 			}
 			fmt.Fprintf(g.stdout, "clips=%d frames=%d wall_s=%.3f\n", n, frames, time.Since(t0).Seconds())
-			return nil
+			return failedFiles(err)
 		},
 	}
 	f := cmd.Flags()
@@ -47,6 +47,6 @@ log10(mel power + 1e-10) instead, the form of a common numpy recipe.`,
 	f.StringVar(&cfg.Norm, "norm", "", "triangle normalisation: peak or area (default peak)")
 	f.BoolVar(&cfg.Center, "center", false, "pad by n_fft/2 at both ends (reflect)")
 	f.BoolVar(&numpyLog, "numpy-log", false, "write log10(power + 1e-10) instead of dB")
-	f.IntVarP(&workers, "jobs", "j", 0, "files processed at once (0 = all cores)")
+	f.IntVarP(&workers, "jobs", "j", 0, "files processed at once (0 = one per available CPU)")
 	return cmd
 }

@@ -11,7 +11,7 @@ import (
 	"github.com/schollz/progressbar/v3"
 	"golang.org/x/term"
 
-	"thrum/augment"
+	"thrum/machine/pool"
 )
 
 // progressMode is how progress is shown: a bar on a terminal, periodic plain
@@ -44,7 +44,7 @@ func newRenderer(w io.Writer, mode progressMode) *renderer {
 	return r
 }
 
-func (r *renderer) event(e augment.Event) {
+func (r *renderer) event(e pool.Event) {
 	r.mu.Lock()
 	defer r.mu.Unlock()
 	switch r.mode {
@@ -52,7 +52,7 @@ func (r *renderer) event(e augment.Event) {
 		return
 	case progressJSON:
 		b, _ := json.Marshal(map[string]any{"event": "progress", "stage": e.Stage, "machine": e.Machine,
-			"done": e.Done, "total": e.Total, "written": e.Written, "rejected": e.Rejected, "path": e.Path})
+			"done": e.Done, "total": e.Total, "unit": e.Unit, "written": e.Written, "rejected": e.Rejected, "path": e.Path})
 		fmt.Fprintf(r.w, "%s\n", b)
 		return
 	}
@@ -60,20 +60,20 @@ func (r *renderer) event(e augment.Event) {
 		if r.bar == nil || r.stage != e.Stage {
 			r.finishLocked()
 			r.stage = e.Stage
-			r.bar = progressbar.NewOptions(e.Total, progressbar.OptionSetWriter(r.w),
+			r.bar = progressbar.NewOptions64(e.Total, progressbar.OptionSetWriter(r.w),
 				progressbar.OptionSetDescription(fmt.Sprintf("%-9s", e.Stage)), progressbar.OptionShowCount(),
 				progressbar.OptionSetWidth(30), progressbar.OptionThrottle(100*time.Millisecond),
 				progressbar.OptionClearOnFinish())
 		}
-		r.bar.Set(e.Done)
+		r.bar.Set64(e.Done)
 		return
 	}
 	if e.Done == e.Total || time.Since(r.last) > 2*time.Second {
 		r.last = time.Now()
-		if e.Unit == "files" {
-			fmt.Fprintf(r.w, "%s: %d/%d files\n", e.Stage, e.Done, e.Total)
+		if e.Written == 0 && e.Rejected == 0 {
+			fmt.Fprintf(r.w, "%s: %d/%d %s\n", e.Stage, e.Done, e.Total, e.Unit)
 		} else {
-			fmt.Fprintf(r.w, "%s: %d/%d recordings, %d outputs, %d rejected\n", e.Stage, e.Done, e.Total, e.Written, e.Rejected)
+			fmt.Fprintf(r.w, "%s: %d/%d %s, %d outputs, %d rejected\n", e.Stage, e.Done, e.Total, e.Unit, e.Written, e.Rejected)
 		}
 	}
 }

@@ -26,7 +26,7 @@ hashes to the ledger's sha256. Nothing is written. Exit code 3 when any output d
 			if err := o.validate(); err != nil {
 				return err
 			}
-			inv, err := loadPlant(args[0], o.Out)
+			inv, err := loadPlant(cmd.Context(), args[0], o.Out)
 			if err != nil {
 				return err
 			}

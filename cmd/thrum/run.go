@@ -64,7 +64,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 			return err
 		}
 	}
-	inv, err := machine.Scan(p, machine.ScanOptions{})
+	inv, err := machine.Scan(ctx, p, machine.ScanOptions{})
 	if err != nil {
 		return err
 	}
@@ -92,13 +92,13 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		fmt.Fprintf(g.stdout, "shard %d/%d done in %.1f s; when every shard is done, run without --shard to join them and finish\n", sh.I, sh.N, time.Since(t0).Seconds())
 		return nil
 	}
-	if err := runSplitQuiet(p, o.Out, g.stderr); err != nil {
+	if err := runSplitQuiet(ctx, p, o.Out, g.stderr); err != nil {
 		return err
 	}
 	if _, err := runFeatures(ctx, g, o, p); err != nil {
 		return err
 	}
-	rep, err := split.Audit(o.Out, split.AuditOptions{})
+	rep, err := split.Audit(ctx, o.Out, split.AuditOptions{})
 	if err != nil {
 		return err
 	}
@@ -173,8 +173,8 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	return nil
 }
 
-func runSplitQuiet(p *machine.Plant, out string, stderr io.Writer) error {
-	return runSplit(context.Background(), &globals{stdout: discard{}, stderr: stderr}, stageOptions{Out: out}, p)
+func runSplitQuiet(ctx context.Context, p *machine.Plant, out string, stderr io.Writer) error {
+	return runSplit(ctx, &globals{stdout: discard{}, stderr: stderr}, stageOptions{Out: out}, p)
 }
 
 type discard struct{}

@@ -46,11 +46,11 @@ Lists go to DIR/splits/.`,
 	return cmd
 }
 
-func runSplit(_ context.Context, g *globals, o stageOptions, p *machine.Plant) error {
+func runSplit(ctx context.Context, g *globals, o stageOptions, p *machine.Plant) error {
 	if _, err := ledger.Merge(p, o.Out); err != nil {
 		return err
 	}
-	tree, err := ledger.ReadTree(o.Out)
+	tree, err := ledger.ReadTreeContext(ctx, o.Out)
 	if err != nil {
 		return err
 	}
@@ -66,7 +66,7 @@ func runSplit(_ context.Context, g *globals, o stageOptions, p *machine.Plant) e
 		return fmt.Errorf("split: no ledger lines under %s: run expand first", o.Out)
 	}
 	pol := split.PolicyFromPlant(p)
-	rows, err := split.Assign(split.ItemsFromLedger(all), pol)
+	rows, err := split.Assign(ctx, split.ItemsFromLedger(all), pol)
 	if err != nil {
 		return err
 	}

@@ -26,7 +26,7 @@ type stageOptions struct {
 
 func (o *stageOptions) addFlags(cmd *cobra.Command) {
 	cmd.Flags().StringVarP(&o.Out, "out", "o", "", "output root (required; never inside the recordings root)")
-	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "clips processed at once (0 = all cores)")
+	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "clips processed at once (0 = one per available CPU)")
 	cmd.Flags().StringVar(&o.Shard, "shard", "", "process shard I of N only, as I/N (default: from JOB_COMPLETION_INDEX or SLURM_ARRAY_TASK_ID, else all)")
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "progress and summary as JSON lines on stdout")
 	cmd.Flags().BoolVarP(&o.Quiet, "quiet", "q", false, "no progress output")
@@ -114,7 +114,7 @@ func (o *stageOptions) renderer(g *globals) *renderer {
 
 // loadPlant loads a plant, refuses an output root that overlaps its
 // recordings root, and scans its recordings (hashes, no levels).
-func loadPlant(plantPath, out string) (*machine.Inventory, error) {
+func loadPlant(ctx context.Context, plantPath, out string) (*machine.Inventory, error) {
 	p, err := machine.Load(plantPath)
 	if err != nil {
 		return nil, err
@@ -122,7 +122,7 @@ func loadPlant(plantPath, out string) (*machine.Inventory, error) {
 	if err := augment.CheckOutput(p, out); err != nil {
 		return nil, err
 	}
-	return machine.Scan(p, machine.ScanOptions{})
+	return machine.Scan(ctx, p, machine.ScanOptions{})
 }
 
 // augmentOptions builds the stage options: training variants may only mix
@@ -204,7 +204,7 @@ frequencies, shaft rate, severity and seed, and can never be placed in eval or t
 }
 
 func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath, stage string) error {
-	inv, err := loadPlant(plantPath, o.Out)
+	inv, err := loadPlant(ctx, plantPath, o.Out)
 	if err != nil {
 		return err
 	}

@@ -33,13 +33,13 @@ recordings, recordings shorter than one clip). One bad file never stops the surv
 	return cmd
 }
 
-func runSurvey(_ context.Context, g *globals, o surveyOptions, plantPath string) error {
+func runSurvey(ctx context.Context, g *globals, o surveyOptions, plantPath string) error {
 	g.caution()
 	p, err := machine.Load(plantPath)
 	if err != nil {
 		return err
 	}
-	inv, err := machine.Scan(p, machine.ScanOptions{Levels: true})
+	inv, err := machine.Scan(ctx, p, machine.ScanOptions{Levels: true})
 	if err != nil {
 		return err
 	}

@@ -2,10 +2,12 @@ package main
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"sort"
 
+	"thrum/machine/pool"
 	"thrum/machine/wavio"
 )
 
@@ -35,4 +37,20 @@ func writeJSONLine(w io.Writer, v any) {
 func sortedStrings(s []string) []string {
 	sort.Strings(s)
 	return s
+}
+
+// isFailedFiles reports whether err says that some input files of a folder
+// batch failed while the others were processed.
+func isFailedFiles(err error) bool {
+	var f *pool.Failed
+	return errors.As(err, &f)
+}
+
+// failedFiles turns the failed files of a folder batch into a problems
+// error (exit code 3): the batch finished, and each bad file is named.
+func failedFiles(err error) error {
+	if err == nil {
+		return nil
+	}
+	return &problemsError{err.Error()}
 }
