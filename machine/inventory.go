@@ -67,7 +67,8 @@ type Recording struct {
 	Clips    []Clip       `json:"clips"`
 	Levels   *Levels      `json:"levels,omitempty"`
 	Warnings []string     `json:"warnings,omitempty"`
-	// Err is why the recording cannot be used (unreadable, wrong rate).
+	// Err is why the recording cannot be used (unreadable, wrong rate, a
+	// *SampleError for its samples).
 	Err error `json:"-"`
 }
 
@@ -79,8 +80,11 @@ type Problem struct {
 	Machine   string `json:"machine,omitempty"`
 	Condition string `json:"condition,omitempty"`
 	Path      string `json:"path,omitempty"`
-	Kind      string `json:"kind"` // unreadable, rate-mismatch, no-recordings, short, unknown-folder, warning
-	Msg       string `json:"message"`
+	// Kind is one of unreadable, rate-mismatch, no-recordings, short,
+	// unknown-folder, warning, and the sample problems non-finite,
+	// absurd-sample and silent (see SampleError).
+	Kind string `json:"kind"`
+	Msg  string `json:"message"`
 }
 
 func (p Problem) String() string {
@@ -207,7 +211,7 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 		problem("unreadable", "%v; skipped", err)
 		return nil, nil
 	}
-	sum, lv, r, err := hashAndRead(ctx, file, levels)
+	sum, lv, se, r, err := hashAndRead(ctx, file, levels)
 	if cerr := ctx.Err(); cerr != nil {
 		return nil, cerr
 	}
@@ -220,6 +224,13 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 	rec.Format, rec.Frames, rec.Warnings, rec.Levels = r.Format(), r.Frames(), r.Warnings(), lv
 	for _, w := range rec.Warnings {
 		problem("warning", "%s", w)
+	}
+	if se != nil {
+		// Excluded, never clamped: a clamped NaN or 1e30 becomes a
+		// full-scale click, and a scaled-down one a clip of zeros.
+		rec.Err = se
+		problem(se.Kind, "%v; not used", se)
+		return rec, nil
 	}
 	rate := rec.Format.SampleRate
 	rec.Seconds = float64(rec.Frames) / float64(rate)
@@ -254,18 +265,56 @@ func CutClips(frames, n int64, policy string) []Clip {
 	return out
 }
 
-// hashAndRead hashes the file's bytes and parses its header in one pass;
-// with levels it also decodes every sample for the level statistics. Every
-// read fails with ctx's error once ctx is done.
-func hashAndRead(ctx context.Context, file string, levels bool) (string, *Levels, *wavio.Reader, error) {
+// MaxFloatSample is the sanity limit on the magnitude of a float sample.
+// Float recordings may hold sensor data in physical units beyond ±1 (an
+// accelerometer record in g, a pressure in Pa), so full scale is no limit;
+// 1e6 is far above any such record yet far below garbage such as 1e30 or a
+// misread integer, whose squares would swamp every level and mix.
+const MaxFloatSample = 1e6
+
+// Sample problem kinds: why a recording's samples make it unusable.
+const (
+	SampleNonFinite = "non-finite"
+	SampleAbsurd    = "absurd-sample"
+	SampleSilent    = "silent"
+)
+
+// SampleError says why a recording's samples make it unusable: the first
+// non-finite sample, the first sample beyond ±MaxFloatSample, or exact
+// digital silence (every sample 0, Kind SampleSilent, no location).
+type SampleError struct {
+	Kind string
+	// Frame and Channel locate the first bad sample; Offset is its byte
+	// offset in the file.
+	Frame   int64
+	Channel int
+	Offset  int64
+	Value   float64
+}
+
+func (e *SampleError) Error() string {
+	switch e.Kind {
+	case SampleSilent:
+		return "all samples are 0"
+	case SampleAbsurd:
+		return fmt.Sprintf("sample %d of channel %d (byte offset %d) is %g, beyond the sanity limit ±%g for float samples",
+			e.Frame, e.Channel, e.Offset, e.Value, MaxFloatSample)
+	}
+	return fmt.Sprintf("sample %d of channel %d (byte offset %d) is %v", e.Frame, e.Channel, e.Offset, e.Value)
+}
+
+// hashAndRead hashes the file's bytes, parses its header and decodes every
+// sample in one pass: the samples are checked (see SampleError) and, with
+// levels, measured. Every read fails with ctx's error once ctx is done.
+func hashAndRead(ctx context.Context, file string, levels bool) (string, *Levels, *SampleError, *wavio.Reader, error) {
 	of, err := os.Open(file)
 	if err != nil {
-		return "", nil, nil, err
+		return "", nil, nil, nil, err
 	}
 	defer of.Close()
 	st, err := of.Stat()
 	if err != nil {
-		return "", nil, nil, err
+		return "", nil, nil, nil, err
 	}
 	f := ContextReader(ctx, of)
 	h := sha256.New()
@@ -273,20 +322,20 @@ func hashAndRead(ctx context.Context, file string, levels bool) (string, *Levels
 	r, err := wavio.NewReader(tee, file, st.Size())
 	if err != nil {
 		drain(h, f)
-		return hex.EncodeToString(h.Sum(nil)), nil, nil, err
+		return hex.EncodeToString(h.Sum(nil)), nil, nil, nil, err
 	}
-	var lv *Levels
-	if levels {
-		lv, err = measure(r)
-		if err != nil {
-			drain(h, f)
-			return hex.EncodeToString(h.Sum(nil)), nil, nil, err
-		}
+	lv, se, err := measure(r)
+	if err != nil {
+		drain(h, f)
+		return hex.EncodeToString(h.Sum(nil)), nil, nil, nil, err
+	}
+	if !levels || (se != nil && se.Kind != SampleSilent) {
+		lv = nil
 	}
 	if err := drain(h, f); err != nil {
-		return "", nil, nil, err
+		return "", nil, nil, nil, err
 	}
-	return hex.EncodeToString(h.Sum(nil)), lv, r, nil
+	return hex.EncodeToString(h.Sum(nil)), lv, se, r, nil
 }
 
 // drain hashes whatever of f has not been read yet.
@@ -295,24 +344,30 @@ func drain(h hash.Hash, f io.Reader) error {
 	return err
 }
 
-func measure(r *wavio.Reader) (*Levels, error) {
-	ch := r.Format().Channels
+// measure decodes every sample of r for its level statistics and checks
+// them: the first non-finite or absurd sample, or a file of zeros, is
+// returned as a *SampleError (the levels are then meaningless, except the
+// −Inf levels of silence).
+func measure(r *wavio.Reader) (*Levels, *SampleError, error) {
+	format := r.Format()
+	ch := format.Channels
 	buf := make([]float64, 8192*ch)
 	var n, clipped int64
 	var sum, sq, peak float64
+	var bad *SampleError
 	// A sample counts as clipped at the largest code of its format: for
 	// PCM that is within one step of ±1.
 	limit := 1.0
-	if f := r.Format(); !f.Float {
-		bits := f.ValidBits
+	if !format.Float {
+		bits := format.ValidBits
 		if bits == 0 {
-			bits = f.BitDepth
+			bits = format.BitDepth
 		}
 		limit = 1 - 1.5/math.Ldexp(1, bits-1)
 	}
 	for {
 		k, err := r.ReadFrames(buf)
-		for _, x := range buf[:k*ch] {
+		for i, x := range buf[:k*ch] {
 			sum += x
 			sq += x * x
 			a := math.Abs(x)
@@ -322,13 +377,23 @@ func measure(r *wavio.Reader) (*Levels, error) {
 			if a >= limit {
 				clipped++
 			}
+			// a > MaxFloatSample is false for NaN: test both.
+			if bad == nil && (a > MaxFloatSample || a != a) {
+				kind := SampleAbsurd
+				if math.IsNaN(x) || math.IsInf(x, 0) {
+					kind = SampleNonFinite
+				}
+				idx := n + int64(i)
+				bad = &SampleError{Kind: kind, Frame: idx / int64(ch), Channel: int(idx % int64(ch)),
+					Offset: r.DataOffset() + idx*int64(format.BitDepth/8), Value: x}
+			}
 		}
 		n += int64(k * ch)
 		if errors.Is(err, io.EOF) {
 			break
 		}
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 	}
 	lv := &Levels{RMSDBFS: math.Inf(-1), PeakDBFS: math.Inf(-1)}
@@ -338,7 +403,10 @@ func measure(r *wavio.Reader) (*Levels, error) {
 		lv.RMSDBFS = DB(sq / float64(n))
 		lv.PeakDBFS = 20 * math.Log10(peak)
 	}
-	return lv, nil
+	if bad == nil && n > 0 && peak == 0 {
+		bad = &SampleError{Kind: SampleSilent}
+	}
+	return lv, bad, nil
 }
 
 // DB is 10·log10(power), −Inf for zero power.

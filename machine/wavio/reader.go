@@ -64,6 +64,7 @@ type Reader struct {
 	remain int64  // data bytes still to read; -1 means read to end of stream
 	sized  bool   // frames was checked against the stream size
 	pos    int64  // file offset of the next byte from src
+	data   int64  // file offset of the first sample byte
 	buf    []byte
 	// After a read error the bytes of an incomplete frame are kept at
 	// buf[partOff:partOff+have] until the next fill.
@@ -97,6 +98,10 @@ func (r *Reader) Format() Format { return r.format }
 // size). When the stream ends early it is lowered to the frames actually
 // read.
 func (r *Reader) Frames() int64 { return r.frames }
+
+// DataOffset returns the file offset of the first sample byte: frame f,
+// channel c starts at DataOffset() + (f·Channels + c)·BitDepth/8.
+func (r *Reader) DataOffset() int64 { return r.data }
 
 // Warnings returns what the reader tolerated: clamped data sizes, a trailing
 // partial frame, a byte rate that disagrees with the rest of the header.
@@ -347,6 +352,7 @@ func guidString(g []byte) string {
 
 // startData sets up the data chunk whose header is at file offset start.
 func (r *Reader) startData(start, csize, size int64) {
+	r.data = r.pos
 	declared := csize
 	switch {
 	case size >= 0:
