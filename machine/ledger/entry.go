@@ -86,6 +86,10 @@ type Entry struct {
 	Draw  string         `json:"draw,omitempty"`
 	Tool  string         `json:"tool"`
 	Extra map[string]any `json:"extra,omitempty"`
+	// Undefined names the fields of the line that had no finite value,
+	// each with the reason (see Defined); such a field holds 0 and means
+	// nothing. Only rejected lines have it.
+	Undefined map[string]string `json:"undefined,omitempty"`
 }
 
 // StepRecord is one applied transform with its exact drawn parameters.
@@ -95,6 +99,11 @@ type StepRecord struct {
 	Text   map[string]string  `json:"text,omitempty"`
 	// Nonphysical marks tempo and pitch, which break machine physics.
 	Nonphysical bool `json:"nonphysical,omitempty"`
+	// Undefined names the measured values that have no value (the SNR of a
+	// silent mix, the T30 of a response that never decays 35 dB), each with
+	// the reason; such a value is absent from Params. A line never holds a
+	// NaN or an infinity.
+	Undefined map[string]string `json:"undefined,omitempty"`
 }
 
 // FaultRecord labels a synthetic fault cue.

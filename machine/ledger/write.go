@@ -62,6 +62,10 @@ func encode(buf *bytes.Buffer, entries []Entry) error {
 	for i := range entries {
 		e := entries[i]
 		e.Schema = Schema
+		// encoding/json's own error names no line or field
+		if err := Check(&e); err != nil {
+			return err
+		}
 		if err := enc.Encode(&e); err != nil {
 			return fmt.Errorf("ledger: %s line of %s: %w", e.Stage, e.Path, err)
 		}
