@@ -20,10 +20,14 @@ func TestNonFiniteValues(t *testing.T) {
 		where string
 	}{
 		{"step param", func(e *Entry) { e.Steps[0].Params["measured_snr_db"] = nan }, "steps[0].params.measured_snr_db", "pump/nominal/a-c0-v1.wav"},
-		{"later step", func(e *Entry) { e.Steps = append(e.Steps, StepRecord{Kind: "room", Params: map[string]float64{"rt60_s": inf}}) }, "steps[3].params.rt60_s", "pump/nominal/a-c0-v1.wav"},
+		{"later step", func(e *Entry) {
+			e.Steps = append(e.Steps, StepRecord{Kind: "room", Params: map[string]float64{"rt60_s": inf}})
+		}, "steps[3].params.rt60_s", "pump/nominal/a-c0-v1.wav"},
 		{"scale", func(e *Entry) { e.Scale = -inf }, "scale", "pump/nominal/a-c0-v1.wav"},
 		{"speed", func(e *Entry) { e.Speed = nan }, "speed", "pump/nominal/a-c0-v1.wav"},
-		{"fault", func(e *Entry) { e.Fault = &FaultRecord{Kind: "imbalance", Frequencies: map[string]float64{"shaft": inf}} }, "fault.frequencies.shaft", "pump/nominal/a-c0-v1.wav"},
+		{"fault", func(e *Entry) {
+			e.Fault = &FaultRecord{Kind: "imbalance", Frequencies: map[string]float64{"shaft": inf}}
+		}, "fault.frequencies.shaft", "pump/nominal/a-c0-v1.wav"},
 		{"extra", func(e *Entry) { e.Extra = map[string]any{"level": nan} }, "extra.level", "pump/nominal/a-c0-v1.wav"},
 		{"rejected line", func(e *Entry) { e.Path, e.Kind, e.Clip, e.Scale = "", KindRejected, 3, nan }, "scale", "pump/nominal/a.wav clip 3 variant 1"},
 	}
