@@ -68,6 +68,10 @@ type Summary struct {
 	Written   int // outputs written or verified this run
 	Reused    int // outputs already present with matching ledger entry and hash
 	Rejected  map[string]int
+	// Undefined counts the rejections for a value that could not be
+	// measured, by "<reason>: <why>" (the why names the step and the
+	// background, room or file).
+	Undefined map[string]int
 	Faults    map[string]int
 	Recorded  int
 	Augmented int
@@ -187,7 +191,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 	for i, j := range jobs {
 		s := sums[j.m.ID]
 		if s == nil {
-			s = &Summary{Machine: j.m.ID, Rejected: map[string]int{}, Faults: map[string]int{}}
+			s = &Summary{Machine: j.m.ID, Rejected: map[string]int{}, Undefined: map[string]int{}, Faults: map[string]int{}}
 			sums[j.m.ID] = s
 		}
 		s.Clips += len(j.rec.Clips)
@@ -195,6 +199,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 		for _, e := range results[i] {
 			if e.Kind == ledger.KindRejected {
 				s.Rejected[e.Reason]++
+				countUndefined(s.Undefined, e)
 				continue
 			}
 			s.Written++
@@ -229,6 +234,19 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 		}
 	}
 	return out2, nil
+}
+
+// countUndefined counts a rejected line's undefined values by reason and
+// cause.
+func countUndefined(m map[string]int, e ledger.Entry) {
+	for _, st := range e.Steps {
+		for _, why := range st.Undefined {
+			m[e.Reason+": "+why]++
+		}
+	}
+	for field, why := range e.Undefined {
+		m[e.Reason+": "+field+": "+why]++
+	}
 }
 
 // commit writes the stage's section in canonical order: the whole ledger
@@ -287,6 +305,10 @@ type env struct {
 
 	mu   sync.Mutex
 	bg   map[string][]float64
+	// bgBad holds the sample problem of a background whose samples cannot
+	// be mixed (all zero, non-finite, absurd); bgPath its file.
+	bgBad  map[string]*machine.SampleError
+	bgPath map[string]string
 	irs  map[string]*irEntry
 	room *room.Room
 	mics [][3]float64
@@ -301,12 +323,13 @@ type irEntry struct {
 	distance float64
 	reverb   room.Reverb // measured responses only
 	rt60     float64
+	rt60Err  error // why rt60 could not be measured
 	err      error
 }
 
 func newEnv(p *machine.Plant, m *machine.Machine, opt Options, plans *Plans) (*env, error) {
 	e := &env{p: p, m: m, opt: opt, fs: float64(p.SampleRate), holdOut: HoldOutBands(m),
-		bgFrames: map[string]int64{}, bg: map[string][]float64{}, irs: map[string]*irEntry{}, plans: plans}
+		bgFrames: map[string]int64{}, bg: map[string][]float64{}, bgBad: map[string]*machine.SampleError{}, bgPath: map[string]string{}, irs: map[string]*irEntry{}, plans: plans}
 	allowed := opt.Backgrounds
 	if allowed == nil {
 		for _, b := range p.Backgrounds {
@@ -326,6 +349,10 @@ func newEnv(p *machine.Plant, m *machine.Machine, opt Options, plans *Plans) (*e
 				return nil, fmt.Errorf("augment: background %s (%s): sample rate %d Hz, the plant's working rate is %d Hz", b.ID, b.Path, a.Format.SampleRate, p.SampleRate)
 			}
 			e.bg[id] = a.Mono(nil)
+			e.bgPath[id] = b.Path
+			if bad := machine.CheckSamples(a.Data, a.Format.Channels); bad != nil {
+				e.bgBad[id] = bad
+			}
 			e.bgFrames[id] = int64(a.Frames)
 			e.bgIDs = append(e.bgIDs, id)
 		}
@@ -497,6 +524,12 @@ func (e *env) reuse(res *jobResult, want ledger.Entry) bool {
 // emit writes y for an output entry (a rejected one has no file), then
 // journals the entry and appends it to the job's result.
 func (e *env) emit(res *jobResult, ent ledger.Entry, y []float64) error {
+	if ledger.Check(&ent) != nil {
+		// belt and braces: the steps record undefined values themselves,
+		// but a NaN that slips through rejects the variant, not the stage
+		ent = ledger.Defined(ent, "not finite")
+		ent.Kind, ent.Reason, ent.Path = ledger.KindRejected, RejectNonFiniteValue, ""
+	}
 	if ent.Kind == ledger.KindOutput {
 		sum, err := e.write(ent.Path, y)
 		if err != nil {

@@ -18,6 +18,23 @@ const (
 	RejectRT60      = "rt60-outside-room-range"
 	RejectSilent    = "silent-output"
 	RejectIR        = "impulse-response-unusable"
+	// RejectSNRUndefined: the re-measured SNR has no value (a silent clip,
+	// or nothing added); the step's undefined map says which.
+	RejectSNRUndefined = "snr-undefined"
+	// RejectRT60Unmeasurable: the response's T30 cannot be measured (it
+	// never decays 35 dB inside its length); the step's undefined map
+	// gives the room or file and the cause.
+	RejectRT60Unmeasurable = "rt60-unmeasurable"
+	// RejectSilentBackground: the background drawn has only zero samples.
+	RejectSilentBackground = "silent-background"
+	// RejectBackgroundSamples: the background drawn has a non-finite or
+	// absurd sample (see machine.SampleError).
+	RejectBackgroundSamples = "background-samples-unusable"
+	// RejectNonFiniteOutput: the output holds a NaN or an infinity.
+	RejectNonFiniteOutput = "non-finite-output"
+	// RejectNonFiniteValue: a value of the ledger line is NaN or infinite
+	// (the encoder's guard; the line's undefined map names the field).
+	RejectNonFiniteValue = "non-finite-value"
 )
 
 // workspace holds a worker's reusable buffers.
@@ -64,10 +81,15 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 			target := rec.Params["snr_db"]
 			n := Noise{Colour: rec.Text["colour"], SNR: target, Weighting: w, Rand: NewRand(uint64(rec.Params["noise_seed"]))}
 			out = n.Apply(ws.spare(cur), cur, e.fs)
-			got := measuredSNR(cur, out, e.fs, w)
-			rec.Params["measured_snr_db"] = got
-			if !snrOK(got, target, d.Step.Range) {
-				reason = RejectSNR
+			got, why := measuredSNR(cur, out, e.fs, w)
+			if why != "" {
+				undefined(&rec, "measured_snr_db", "noise step: "+why)
+				reason = RejectSNRUndefined
+			} else {
+				rec.Params["measured_snr_db"] = got
+				if !snrOK(got, target, d.Step.Range) {
+					reason = RejectSNR
+				}
 			}
 		case "background":
 			w := weighting(rec.Text["weighting"])
@@ -75,15 +97,29 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 			var src []float64
 			if id := rec.Text["background"]; id == "synthesised" {
 				src = SynthPlantNoise(make([]float64, len(cur)), e.fs, NewRand(uint64(rec.Params["noise_seed"])))
+			} else if bad := e.bgBad[id]; bad != nil {
+				// nothing to mix: the variant is rejected, naming the file
+				undefined(&rec, "measured_snr_db", fmt.Sprintf("background %s (%s): %v", id, e.bgPath[id], bad))
+				reason = RejectBackgroundSamples
+				if bad.Kind == machine.SampleSilent {
+					reason = RejectSilentBackground
+				}
+				out = append(ws.spare(cur), cur...)
+				break
 			} else {
 				src = e.bg[id]
 			}
 			bgT := Background{Source: src, SNR: target, Weighting: w, Offset: int(rec.Params["offset"]), CrossfadeSeconds: 0.25}
 			out = bgT.Apply(ws.spare(cur), cur, e.fs)
-			got := measuredSNR(cur, out, e.fs, w)
-			rec.Params["measured_snr_db"] = got
-			if !snrOK(got, target, d.Step.Range) {
-				reason = RejectSNR
+			got, why := measuredSNR(cur, out, e.fs, w)
+			if why != "" {
+				undefined(&rec, "measured_snr_db", fmt.Sprintf("background %s: %s", rec.Text["background"], why))
+				reason = RejectSNRUndefined
+			} else {
+				rec.Params["measured_snr_db"] = got
+				if !snrOK(got, target, d.Step.Range) {
+					reason = RejectSNR
+				}
 			}
 		case "room":
 			ir := e.roomIR(int(rec.Params["mic"]))
@@ -94,11 +130,16 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 			}
 			mic := e.mics[int(rec.Params["mic"])]
 			rec.Params["mic_x"], rec.Params["mic_y"], rec.Params["mic_z"] = mic[0], mic[1], mic[2]
-			rec.Params["rt60_s"] = ir.rt60
 			rec.Params["distance_m"] = ir.distance
-			pr := e.p.Room(e.m.Room)
-			if ir.rt60 < pr.RT60Range[0] || ir.rt60 > pr.RT60Range[1] || math.IsNaN(ir.rt60) {
-				reason = RejectRT60
+			if ir.rt60Err != nil {
+				undefined(&rec, "rt60_s", fmt.Sprintf("room %s, microphone %d: %v", e.m.Room, int(rec.Params["mic"]), ir.rt60Err))
+				reason = RejectRT60Unmeasurable
+			} else {
+				rec.Params["rt60_s"] = ir.rt60
+				pr := e.p.Room(e.m.Room)
+				if ir.rt60 < pr.RT60Range[0] || ir.rt60 > pr.RT60Range[1] {
+					reason = RejectRT60
+				}
 			}
 			out = room.NewReverb(ir.ir, e.fs).Apply(ws.spare(cur), cur, e.fs)
 		case "ir":
@@ -108,7 +149,12 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 				out = append(ws.spare(cur), cur...)
 				break
 			}
-			rec.Params = map[string]float64{"rt60_s": ir.rt60}
+			if ir.rt60Err != nil {
+				undefined(&rec, "rt60_s", fmt.Sprintf("impulse response %s: %v", rec.Text["file"], ir.rt60Err))
+				reason = RejectRT60Unmeasurable
+			} else {
+				rec.Params = map[string]float64{"rt60_s": ir.rt60}
+			}
 			out = ir.reverb.Apply(ws.spare(cur), cur, e.fs)
 		case "tempo":
 			out = Tempo{Factor: 1 + rec.Params["percent"]/100}.Apply(ws.spare(cur), cur, e.fs)
@@ -122,11 +168,30 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 		recs = append(recs, rec)
 	}
 	if reason == "" {
-		if PeakAbs(cur) == 0 {
+		if !finiteSamples(cur) {
+			reason = RejectNonFiniteOutput
+		} else if PeakAbs(cur) == 0 {
 			reason = RejectSilent
 		}
 	}
 	return cur, recs, reason
+}
+
+// undefined records that a step's measured value has no value, and why.
+func undefined(rec *ledger.StepRecord, key, why string) {
+	if rec.Undefined == nil {
+		rec.Undefined = map[string]string{}
+	}
+	rec.Undefined[key] = why
+}
+
+func finiteSamples(x []float64) bool {
+	for _, v := range x {
+		if v-v != 0 { // NaN or ±Inf
+			return false
+		}
+	}
+	return true
 }
 
 // spare returns the buffer of the pair that cur is not, emptied.
@@ -172,8 +237,9 @@ func weighting(s string) Weighting {
 
 // measuredSNR re-measures a mix: the added component is out − in. Without
 // weighting it is summed in place; with A-weighting it is filtered as a
-// signal of its own.
-func measuredSNR(in, out []float64, fs float64, w Weighting) float64 {
+// signal of its own. When the SNR has no finite value (a silent clip, or
+// nothing added) it returns why instead.
+func measuredSNR(in, out []float64, fs float64, w Weighting) (snr float64, why string) {
 	if w == WeightNone {
 		var ps, pn float64
 		for i, v := range in {
@@ -181,13 +247,31 @@ func measuredSNR(in, out []float64, fs float64, w Weighting) float64 {
 			ps += v * v
 			pn += d * d
 		}
-		return 10 * math.Log10(ps/pn)
+		snr = 10 * math.Log10(ps/pn)
+	} else {
+		n := make([]float64, len(in))
+		for i := range n {
+			n[i] = out[i] - in[i]
+		}
+		snr = SNR(in, n, fs, w)
 	}
-	n := make([]float64, len(in))
-	for i := range n {
-		n[i] = out[i] - in[i]
+	if snr-snr == 0 {
+		return snr, ""
 	}
-	return SNR(in, n, fs, w)
+	return 0, snrUndefined(in, out)
+}
+
+// snrUndefined says why an SNR has no value.
+func snrUndefined(in, out []float64) string {
+	if PeakAbs(in) == 0 {
+		return "SNR undefined: the clip is silent"
+	}
+	for i, v := range in {
+		if out[i] != v {
+			return "SNR undefined: the mix is not finite"
+		}
+	}
+	return "SNR undefined: nothing was added (the added signal is silent)"
 }
 
 // snrOK: the re-measured SNR must match the target within 0.1 dB and the
@@ -222,10 +306,7 @@ func (e *env) roomIR(i int) *irEntry {
 			ent.err = err
 			return
 		}
-		ent.rt60, err = room.T30(h, e.fs)
-		if err != nil {
-			ent.rt60 = math.NaN()
-		}
+		ent.rt60, ent.rt60Err = room.T30(h, e.fs)
 		// The recording is the machine's sound as heard near it: scale the
 		// response so its direct path has unit gain (×4πd), and the step
 		// adds the room's reflections at the drawn position instead of
@@ -255,10 +336,7 @@ func (e *env) fileIR(file string) *irEntry {
 		h := room.UnitEnergy(a.Mono(nil))
 		// measured responses are few: keep the convolver (kernel spectra)
 		ent.reverb = room.NewReverb(h, e.fs)
-		ent.rt60, err = room.T30(h, e.fs)
-		if err != nil {
-			ent.rt60 = math.NaN()
-		}
+		ent.rt60, ent.rt60Err = room.T30(h, e.fs)
 		ent.ir = h
 	})
 }

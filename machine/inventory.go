@@ -285,7 +285,7 @@ const (
 type SampleError struct {
 	Kind string
 	// Frame and Channel locate the first bad sample; Offset is its byte
-	// offset in the file.
+	// offset in the file, −1 when unknown.
 	Frame   int64
 	Channel int
 	Offset  int64
@@ -293,14 +293,46 @@ type SampleError struct {
 }
 
 func (e *SampleError) Error() string {
-	switch e.Kind {
-	case SampleSilent:
+	if e.Kind == SampleSilent {
 		return "all samples are 0"
-	case SampleAbsurd:
-		return fmt.Sprintf("sample %d of channel %d (byte offset %d) is %g, beyond the sanity limit ±%g for float samples",
-			e.Frame, e.Channel, e.Offset, e.Value, MaxFloatSample)
 	}
-	return fmt.Sprintf("sample %d of channel %d (byte offset %d) is %v", e.Frame, e.Channel, e.Offset, e.Value)
+	at := fmt.Sprintf("sample %d of channel %d", e.Frame, e.Channel)
+	if e.Offset >= 0 {
+		at += fmt.Sprintf(" (byte offset %d)", e.Offset)
+	}
+	if e.Kind == SampleAbsurd {
+		return fmt.Sprintf("%s is %.7g, beyond the sanity limit ±%g for float samples", at, e.Value, MaxFloatSample)
+	}
+	return fmt.Sprintf("%s is %v", at, e.Value)
+}
+
+// badSample reports whether a sample is non-finite or absurd, and which.
+func badSample(x float64) (string, bool) {
+	switch {
+	case math.IsNaN(x) || math.IsInf(x, 0):
+		return SampleNonFinite, true
+	case math.Abs(x) > MaxFloatSample:
+		return SampleAbsurd, true
+	}
+	return "", false
+}
+
+// CheckSamples checks decoded interleaved samples as Scan checks a
+// recording's: the first non-finite or absurd sample, or only zeros (an
+// empty x is not silent), is returned as a *SampleError with Offset −1.
+func CheckSamples(x []float64, channels int) *SampleError {
+	channels = max(channels, 1)
+	zero := true
+	for i, v := range x {
+		if kind, bad := badSample(v); bad {
+			return &SampleError{Kind: kind, Frame: int64(i / channels), Channel: i % channels, Offset: -1, Value: v}
+		}
+		zero = zero && v == 0
+	}
+	if zero && len(x) > 0 {
+		return &SampleError{Kind: SampleSilent, Offset: -1}
+	}
+	return nil
 }
 
 // hashAndRead hashes the file's bytes, parses its header and decodes every
@@ -377,12 +409,7 @@ func measure(r *wavio.Reader) (*Levels, *SampleError, error) {
 			if a >= limit {
 				clipped++
 			}
-			// a > MaxFloatSample is false for NaN: test both.
-			if bad == nil && (a > MaxFloatSample || a != a) {
-				kind := SampleAbsurd
-				if math.IsNaN(x) || math.IsInf(x, 0) {
-					kind = SampleNonFinite
-				}
+			if kind, ok := badSample(x); ok && bad == nil {
 				idx := n + int64(i)
 				bad = &SampleError{Kind: kind, Frame: idx / int64(ch), Channel: int(idx % int64(ch)),
 					Offset: r.DataOffset() + idx*int64(format.BitDepth/8), Value: x}
@@ -404,7 +431,7 @@ func measure(r *wavio.Reader) (*Levels, *SampleError, error) {
 		lv.PeakDBFS = 20 * math.Log10(peak)
 	}
 	if bad == nil && n > 0 && peak == 0 {
-		bad = &SampleError{Kind: SampleSilent}
+		bad = &SampleError{Kind: SampleSilent, Offset: -1}
 	}
 	return lv, bad, nil
 }

@@ -86,6 +86,8 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	if err != nil {
 		return err
 	}
+	printUndefined(g, "expand", exp)
+	printUndefined(g, "faults", flt)
 	if sh.N > 1 {
 		printSummaries(g, o.JSON, "expand", exp)
 		printSummaries(g, o.JSON, "faults", flt)

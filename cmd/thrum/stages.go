@@ -226,8 +226,19 @@ func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath,
 	if err != nil {
 		return err
 	}
+	printUndefined(g, stage, sums)
 	printSummaries(g, o.JSON, stage, sums)
 	return nil
+}
+
+// printUndefined names on stderr each cause of rejections for a value that
+// could not be measured (the ledger lines hold the same text).
+func printUndefined(g *globals, stage string, sums []augment.Summary) {
+	for _, s := range sums {
+		for _, why := range sortedKeys(s.Undefined) {
+			fmt.Fprintf(g.stderr, "%s: %s: %d variant(s) rejected, %s\n", stage, s.Machine, s.Undefined[why], why)
+		}
+	}
 }
 
 func printSummaries(g *globals, asJSON bool, stage string, sums []augment.Summary) {
