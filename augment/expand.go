@@ -63,11 +63,11 @@ type Options struct {
 
 // Summary counts what a stage did per machine id.
 type Summary struct {
-	Machine   string
-	Clips     int
-	Written   int // outputs written or verified this run
-	Reused    int // outputs already present with matching ledger entry and hash
-	Rejected  map[string]int
+	Machine  string
+	Clips    int
+	Written  int // outputs written or verified this run
+	Reused   int // outputs already present with matching ledger entry and hash
+	Rejected map[string]int
 	// Undefined counts the rejections for a value that could not be
 	// measured, by "<reason>: <why>" (the why names the step and the
 	// background, room or file).
@@ -303,15 +303,15 @@ type env struct {
 
 	plans *Plans
 
-	mu   sync.Mutex
-	bg   map[string][]float64
+	mu sync.Mutex
+	bg map[string][]float64
 	// bgBad holds the sample problem of a background whose samples cannot
 	// be mixed (all zero, non-finite, absurd); bgPath its file.
 	bgBad  map[string]*machine.SampleError
 	bgPath map[string]string
-	irs  map[string]*irEntry
-	room *room.Room
-	mics [][3]float64
+	irs    map[string]*irEntry
+	room   *room.Room
+	mics   [][3]float64
 }
 
 // irEntry caches an impulse response. Only the samples are kept: the FFT
