@@ -20,7 +20,7 @@ import (
 )
 
 // badContentPlant is a small plant: one machine, two conditions of six
-// 3 s takes each, four backgrounds, and a recipe whose every variant has a
+// 3 s takes (six unless told) each, four backgrounds, and a recipe whose every variant has a
 // room, a background and a noise step. {{room}} is replaced by the room's
 // size and absorption.
 const badContentPlant = `seed = 11
@@ -91,7 +91,7 @@ const ordinaryRoom = "size = [12.0, 9.0, 5.0]\nabsorption = 0.3"
 
 // writeBadContentPlant writes the plant with the given room and returns
 // the plant file. Takes are PCM16 tones in noise; the background is noise.
-func writeBadContentPlant(t *testing.T, roomTOML string) string {
+func writeBadContentPlant(t *testing.T, roomTOML string, takes int) string {
 	t.Helper()
 	dir := t.TempDir()
 	plant := filepath.Join(dir, "plant.toml")
@@ -107,7 +107,7 @@ func writeBadContentPlant(t *testing.T, roomTOML string) string {
 		return x
 	}
 	for _, cond := range []string{"full-load", "part-load"} {
-		for k := 1; k <= 6; k++ {
+		for k := 1; k <= takes; k++ {
 			p := filepath.Join(dir, "recordings", "pump-a1", cond, fmt.Sprintf("take-%02d.wav", k))
 			os.MkdirAll(filepath.Dir(p), 0o755)
 			if err := wavio.WriteFile(p, noise(3*16000, 0.1, 123+float64(k)), 16000, 1, wavio.PCM16); err != nil {
@@ -140,12 +140,13 @@ func takeWith(at int, v float64) []float64 {
 
 // Bad content never stops the run: a recording with non-finite, absurd or
 // only zero samples is a survey problem naming the file and the sample and
-// is not used; a background of zeros or a room whose T30 cannot be measured
-// rejects the variants that use it, naming the background or room. In
-// every case run exits 0 (success: the plant was processed without the bad
-// input, which stderr names; survey --strict exits 3 for the recordings),
-// the other recordings are processed, no NaN or infinity is written
-// anywhere under OUT, and the recordings are unchanged.
+// is not used; a background with a NaN or a room whose T30 cannot be
+// measured rejects the variants that use it, naming the background or room.
+// In these cases run exits 0 (success: the plant was processed without the
+// bad input, which stderr names; survey --strict exits 3 for the
+// recordings), the other recordings are processed, no NaN or infinity is
+// written anywhere under OUT. A background of zeros is refused when the
+// plant is loaded (exit 1, naming its key). The recordings never change.
 func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 	const bad = "pump-a1/full-load/take-01.wav"
 	cases := []struct {
@@ -156,6 +157,8 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 		stderr []string
 		reason string // rejection every room or background variant must carry
 		strict bool   // survey --strict exits 3
+		exit   int    // run's exit code
+		takes  int    // per condition; 0 means 6
 	}{
 		{name: "silent", take: make([]float64, 3*16000), strict: true,
 			stderr: []string{bad + ": silent: all samples are 0"}},
@@ -167,11 +170,15 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 			stderr: []string{bad + ": non-finite: sample 47999 of channel 0", "is -Inf"}},
 		{name: "1e30", take: takeWith(100, 1e30), strict: true,
 			stderr: []string{bad + ": absurd-sample: sample 100 of channel 0", "is 1e+30, beyond the sanity limit"}},
-		{name: "silent background", bg: make([]float64, 4*16000), reason: "silent-background",
-			stderr: []string{"silent-background: background {{bg}} (backgrounds/{{bg}}.wav): all samples are 0"}},
-		{name: "reverberant room", room: "size = [14.0, 11.0, 8.0]\nabsorption = 0.04", reason: "rt60-unmeasurable",
+		// loading the plant refuses a silent background file, at its key
+		{name: "silent background", bg: make([]float64, 4*16000), exit: exitError,
+			stderr: []string{"background[{{bg}}].path", "backgrounds/{{bg}}.wav is silent"}},
+		// the stage refuses what loading lets through: a NaN in a background
+		{name: "nan background", bg: takeWith(777, math.NaN()), reason: "background-samples-unusable",
+			stderr: []string{"background-samples-unusable: background {{bg}} (backgrounds/{{bg}}.wav): sample 777 of channel 0 is NaN"}},
+		{name: "reverberant room", room: "size = [14.0, 11.0, 8.0]\nabsorption = 0.04", reason: "rt60-unmeasurable", takes: 3,
 			stderr: []string{"rt60-unmeasurable: room hall, microphone "}},
-		{name: "reverberant walls", room: "size = [14.0, 11.0, 8.0]\nabsorption = [0.05, 0.05, 0.05, 0.05, 0.05, 0.2]", reason: "rt60-unmeasurable",
+		{name: "reverberant walls", room: "size = [14.0, 11.0, 8.0]\nabsorption = [0.05, 0.05, 0.05, 0.05, 0.05, 0.2]", reason: "rt60-unmeasurable", takes: 3,
 			stderr: []string{"rt60-unmeasurable: room hall, microphone "}},
 	}
 	for _, c := range cases {
@@ -180,7 +187,13 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 			if room == "" {
 				room = ordinaryRoom
 			}
-			plant := writeBadContentPlant(t, room)
+			takes := c.takes
+			if takes == 0 {
+				takes = 6
+			}
+			// each microphone position of a reverberant room costs a long
+			// response: fewer takes draw fewer positions
+			plant := writeBadContentPlant(t, room, takes)
 			dir := filepath.Dir(plant)
 			if c.take != nil {
 				if err := wavio.WriteFile(filepath.Join(dir, "recordings", filepath.FromSlash(bad)), c.take, 16000, 1, wavio.Float32); err != nil {
@@ -206,8 +219,8 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 			before := tree(t, filepath.Join(dir, "recordings"))
 			out := filepath.Join(dir, "out")
 			stdout, stderr, code := cli(t, "run", plant, "--out", out, "-q")
-			if code != exitOK {
-				t.Fatalf("run exit %d, want %d\nstdout:\n%s\nstderr:\n%s", code, exitOK, stdout, stderr)
+			if code != c.exit {
+				t.Fatalf("run exit %d, want %d\nstdout:\n%s\nstderr:\n%s", code, c.exit, stdout, stderr)
 			}
 			for _, want := range c.stderr {
 				want = strings.ReplaceAll(want, "{{bg}}", silenced)
@@ -221,6 +234,9 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 				}
 			}
 			diffTrees(t, before, tree(t, filepath.Join(dir, "recordings")), "recordings")
+			if c.exit != exitOK {
+				return
+			}
 			checkFinite(t, out)
 			checkRecorded(t, out)
 			es, err := ledger.ReadFile(filepath.Join(out, "pump-a1", ledger.FileName))
@@ -237,7 +253,7 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 				}
 				uses := false
 				for _, s := range e.Steps {
-					uses = uses || (c.reason == "silent-background" && s.Kind == "background" && s.Text["background"] == silenced) ||
+					uses = uses || (s.Kind == "background" && s.Text["background"] == silenced) ||
 						(c.reason == "rt60-unmeasurable" && s.Kind == "room")
 				}
 				if uses && (e.Kind != ledger.KindRejected || e.Reason != c.reason) {
@@ -248,7 +264,7 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 				t.Errorf("no variant rejected for %s", c.reason)
 			}
 			for _, cond := range []string{"full-load", "part-load"} {
-				for k := 1; k <= 6; k++ {
+				for k := 1; k <= takes; k++ {
 					rel := fmt.Sprintf("pump-a1/%s/take-%02d.wav", cond, k)
 					want := 3
 					if c.take != nil && rel == bad {
