@@ -57,7 +57,7 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 		switch rec.Kind {
 		case "speed":
 			ratio := rec.Params["ratio"]
-			lo, hi := 1-c.BandPercent/100, 1+c.BandPercent/100
+			lo, hi := c.SpeedBand()
 			if ratio < lo-1e-12 || ratio > hi+1e-12 {
 				reason = RejectSpeedBand
 			}

@@ -183,7 +183,7 @@ func weightingName(w string) string {
 // with a small denominator takes the resampler's exact polyphase path, and
 // rounding towards 1 never leaves the band nor enters a hold-out band.
 func clampSpeed(r float64, c *machine.Condition, holdOut [][2]float64) float64 {
-	lo, hi := 1-c.BandPercent/100, 1+c.BandPercent/100
+	lo, hi := c.SpeedBand()
 	r = math.Min(math.Max(r, lo), hi)
 	for _, b := range holdOut {
 		rpm := c.RPM * r

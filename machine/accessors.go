@@ -86,7 +86,9 @@ func (p *Plant) Fractions(m *Machine) SplitFractions {
 	return p.Split
 }
 
-// Band returns the speed band of a condition as [lo, hi] rpm.
+// Band returns the speed band of a condition as [lo, hi] rpm: RPM times
+// SpeedBand.
 func (c *Condition) Band() (lo, hi float64) {
-	return c.RPM * (1 - c.BandPercent/100), c.RPM * (1 + c.BandPercent/100)
+	lo, hi = c.SpeedBand()
+	return c.RPM * lo, c.RPM * hi
 }

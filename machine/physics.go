@@ -29,6 +29,15 @@ import (
 // ShaftHz is the shaft rotation rate in Hz for a speed in rpm.
 func ShaftHz(rpm float64) float64 { return rpm / 60 }
 
+// SpeedBand returns the speed ratios a condition allows, relative to its
+// RPM: 1 − BandPercent/100 … 1 + BandPercent/100. It is the one place the
+// band is computed; Band gives it in rpm, the recipe draw clamps speed steps
+// to it, the guard rejects a variant outside it and the split and the audit
+// test hold-out bands with it.
+func (c *Condition) SpeedBand() (lo, hi float64) {
+	return 1 - c.BandPercent/100, 1 + c.BandPercent/100
+}
+
 // BladePassHz is the blade-pass (fan) or vane-pass (pump, compressor)
 // frequency: the number of blades times the shaft rate.
 func BladePassHz(blades int, shaftHz float64) float64 {

@@ -274,3 +274,27 @@ func TestDefectRatesMap(t *testing.T) {
 		t.Errorf("Map = %v", m)
 	}
 }
+
+func TestSpeedBand(t *testing.T) {
+	// A ±p % band around n rpm is n·(1 − p/100) … n·(1 + p/100): README's
+	// plant.toml section ("speed band ± %"); values worked by hand.
+	cases := []struct {
+		rpm, pct             float64
+		lo, hi, rpmLo, rpmHi float64
+	}{
+		{1500, 2, 0.98, 1.02, 1470, 1530},
+		{1480, 0, 1, 1, 1480, 1480},
+		{900, 10, 0.9, 1.1, 810, 990},
+	}
+	for _, k := range cases {
+		c := &Condition{RPM: k.rpm, BandPercent: k.pct}
+		lo, hi := c.SpeedBand()
+		if !relClose(lo, k.lo, 1e-12) || !relClose(hi, k.hi, 1e-12) {
+			t.Errorf("%g rpm ± %g %%: SpeedBand = %g … %g, want %g … %g", k.rpm, k.pct, lo, hi, k.lo, k.hi)
+		}
+		rlo, rhi := c.Band()
+		if !relClose(rlo, k.rpmLo, 1e-12) || !relClose(rhi, k.rpmHi, 1e-12) {
+			t.Errorf("%g rpm ± %g %%: Band = %g … %g rpm, want %g … %g", k.rpm, k.pct, rlo, rhi, k.rpmLo, k.rpmHi)
+		}
+	}
+}

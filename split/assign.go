@@ -82,9 +82,10 @@ type ConditionPolicy struct {
 	HoldOut     bool    `json:"hold_out"`
 }
 
-// Band returns the condition's speed band [lo, hi] in rpm.
+// Band returns the condition's speed band [lo, hi] in rpm, by the same
+// formula as machine.Condition.Band.
 func (c ConditionPolicy) Band() (lo, hi float64) {
-	return c.RPM * (1 - c.BandPercent/100), c.RPM * (1 + c.BandPercent/100)
+	return (&machine.Condition{RPM: c.RPM, BandPercent: c.BandPercent}).Band()
 }
 
 // Policy is everything assignment depends on. It is written to plan.json so
