@@ -481,10 +481,17 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 			return nil
 		}
 		for v := 0; v < recipe.Variants; v++ {
-			if e.reuse(&res, e.variant(j, recipe, c, v, st)) {
+			want, err := e.variant(j, recipe, c, v, st)
+			if err != nil {
+				return err
+			}
+			if e.reuse(&res, want) {
 				continue
 			}
-			y, ent := e.render(scratch, j, recipe, c, x, v, st)
+			y, ent, err := e.render(scratch, j, recipe, c, x, v, st)
+			if err != nil {
+				return err
+			}
 			if err := e.emit(&res, ent, y); err != nil {
 				return err
 			}
@@ -546,22 +553,21 @@ func (e *env) emit(res *jobResult, ent ledger.Entry, y []float64) error {
 
 // variant draws variant v of a clip and returns its ledger entry as far as
 // the draw determines it (no samples computed).
-func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st string) ledger.Entry {
+func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st string) (ledger.Entry, error) {
 	r := j.rec
 	seed := VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "variant")
-	drawn := Draw(recipe, NewRand(seed), e.drawContext(j, c))
-	recs := make([]ledger.StepRecord, len(drawn))
-	for i := range drawn {
-		recs[i] = drawn[i].Record
+	drawn, err := Draw(recipe, NewRand(seed), e.drawContext(j, c))
+	if err != nil {
+		return ledger.Entry{}, err
 	}
 	ent := e.base(r, c)
 	ent.Stage = ledger.Expand
 	ent.Origin = machine.OriginAugmented
 	ent.Variant = v
 	ent.Seed = seed
-	ent.Draw = drawHash(recs)
+	ent.Draw = drawHash(records(drawn))
 	ent.Path = fmt.Sprintf("%s/%s/augmented/%s-c%04d-v%02d.wav", r.Machine, r.Condition, st, c.Index, v)
-	return ent
+	return ent, nil
 }
 
 func (e *env) drawContext(j job, c machine.Clip) DrawContext {
@@ -571,23 +577,25 @@ func (e *env) drawContext(j job, c machine.Clip) DrawContext {
 
 // render computes variant v of a clip: the samples and the complete entry
 // (measured values, clip-protection scale, or the rejection reason).
-func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) ([]float64, ledger.Entry) {
-	ent := e.variant(j, recipe, c, v, st)
-	drawn := Draw(recipe, NewRand(ent.Seed), e.drawContext(j, c))
+func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, v int, st string) ([]float64, ledger.Entry, error) {
+	ent, err := e.variant(j, recipe, c, v, st)
+	if err != nil {
+		return nil, ent, err
+	}
+	drawn, err := Draw(recipe, NewRand(ent.Seed), e.drawContext(j, c))
+	if err != nil {
+		return nil, ent, err
+	}
 	y, applied, reason := e.apply(ws, x, drawn, j.c)
 	ent.Steps = applied
-	ent.Speed = SpeedOf(applied)
-	for _, s := range applied {
-		if s.Kind == "background" && s.Text["background"] != "synthesised" {
-			ent.Backgrounds = append(ent.Backgrounds, s.Text["background"])
-		}
-	}
+	ent.Speed = SpeedOf(drawn)
+	ent.Backgrounds = BackgroundsOf(drawn)
 	if reason != "" {
 		ent.Kind = ledger.KindRejected
 		ent.Reason = reason
 		ent.Path = ""
-		return nil, ent
+		return nil, ent, nil
 	}
 	ent.Scale = Protect(y)
-	return y, ent
+	return y, ent, nil
 }

@@ -93,7 +93,7 @@ func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (ledg
 		return ledger.Entry{}, nil, fmt.Errorf("machine %s fault %s: %w", j.m.ID, kind, err)
 	}
 	d.cue = cue
-	steps := []ledger.StepRecord{{Kind: "speed", Params: map[string]float64{"ratio": d.ratio, "percent": (d.ratio - 1) * 100}}}
+	steps := []ledger.StepRecord{(&speedStep{Percent: (d.ratio - 1) * 100, Ratio: d.ratio}).Record()}
 	ent := e.base(r, c)
 	ent.Stage = ledger.Faults
 	ent.Origin = machine.OriginSyntheticFault

@@ -45,127 +45,22 @@ type workspace struct {
 // apply runs the drawn steps in order on a copy of x and checks the result
 // against the credibility guard. It returns the output, the step records
 // with values measured while applying (re-measured SNR, RT60, gains), and a
-// rejection reason ("" when the variant is credible).
+// rejection reason ("" when the variant is credible; when several steps
+// fail, the last one's).
 func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condition) ([]float64, []ledger.StepRecord, string) {
 	cur := append(ws.a[:0], x...)
 	ws.a = cur
 	recs := make([]ledger.StepRecord, 0, len(drawn))
 	reason := ""
 	for _, d := range drawn {
-		rec := cloneRecord(d.Record)
-		var out []float64
-		switch rec.Kind {
-		case "speed":
-			ratio := rec.Params["ratio"]
-			lo, hi := c.SpeedBand()
-			if ratio < lo-1e-12 || ratio > hi+1e-12 {
-				reason = RejectSpeedBand
-			}
-			for _, b := range e.holdOut {
-				if rpm := c.RPM * ratio; rpm >= b[0] && rpm <= b[1] {
-					reason = RejectHoldOut
-				}
-			}
-			out = Speed{Ratio: ratio, Plans: e.plans}.Apply(ws.spare(cur), cur, e.fs)
-		case "gain":
-			out = Gain{DB: rec.Params["db"]}.Apply(ws.spare(cur), cur, e.fs)
-		case "invert":
-			out = Invert{}.Apply(ws.spare(cur), cur, e.fs)
-		case "shift":
-			out = Shift{Seconds: rec.Params["ms"] / 1000, Circular: rec.Text["mode"] != "zero"}.Apply(ws.spare(cur), cur, e.fs)
-		case "filter":
-			out = Filter{Type: rec.Text["type"], Low: rec.Params["low_hz"], High: rec.Params["high_hz"],
-				Q: rec.Params["q"], Order: int(rec.Params["order"])}.Apply(ws.spare(cur), cur, e.fs)
-		case "noise":
-			w := weighting(rec.Text["weighting"])
-			target := rec.Params["snr_db"]
-			n := Noise{Colour: rec.Text["colour"], SNR: target, Weighting: w, Rand: NewRand(uint64(rec.Params["noise_seed"]))}
-			out = n.Apply(ws.spare(cur), cur, e.fs)
-			got, why := measuredSNR(cur, out, e.fs, w)
-			if why != "" {
-				undefined(&rec, "measured_snr_db", "noise step: "+why)
-				reason = RejectSNRUndefined
-			} else {
-				rec.Params["measured_snr_db"] = got
-				if !snrOK(got, target, d.Step.Range) {
-					reason = RejectSNR
-				}
-			}
-		case "background":
-			w := weighting(rec.Text["weighting"])
-			target := rec.Params["snr_db"]
-			var src []float64
-			if id := rec.Text["background"]; id == "synthesised" {
-				src = SynthPlantNoise(make([]float64, len(cur)), e.fs, NewRand(uint64(rec.Params["noise_seed"])))
-			} else if bad := e.bgBad[id]; bad != nil {
-				// nothing to mix: the variant is rejected, naming the file
-				undefined(&rec, "measured_snr_db", fmt.Sprintf("background %s (%s): %v", id, e.bgPath[id], bad))
-				reason = RejectBackgroundSamples
-				if bad.Kind == machine.SampleSilent {
-					reason = RejectSilentBackground
-				}
-				out = append(ws.spare(cur), cur...)
-				break
-			} else {
-				src = e.bg[id]
-			}
-			bgT := Background{Source: src, SNR: target, Weighting: w, Offset: int(rec.Params["offset"]), CrossfadeSeconds: 0.25}
-			out = bgT.Apply(ws.spare(cur), cur, e.fs)
-			got, why := measuredSNR(cur, out, e.fs, w)
-			if why != "" {
-				undefined(&rec, "measured_snr_db", fmt.Sprintf("background %s: %s", rec.Text["background"], why))
-				reason = RejectSNRUndefined
-			} else {
-				rec.Params["measured_snr_db"] = got
-				if !snrOK(got, target, d.Step.Range) {
-					reason = RejectSNR
-				}
-			}
-		case "room":
-			ir := e.roomIR(int(rec.Params["mic"]))
-			if ir.err != nil {
-				reason = RejectIR
-				out = append(ws.spare(cur), cur...)
-				break
-			}
-			mic := e.mics[int(rec.Params["mic"])]
-			rec.Params["mic_x"], rec.Params["mic_y"], rec.Params["mic_z"] = mic[0], mic[1], mic[2]
-			rec.Params["distance_m"] = ir.distance
-			if ir.rt60Err != nil {
-				undefined(&rec, "rt60_s", fmt.Sprintf("room %s, microphone %d: %v", e.m.Room, int(rec.Params["mic"]), ir.rt60Err))
-				reason = RejectRT60Unmeasurable
-			} else {
-				rec.Params["rt60_s"] = ir.rt60
-				pr := e.p.Room(e.m.Room)
-				if ir.rt60 < pr.RT60Range[0] || ir.rt60 > pr.RT60Range[1] {
-					reason = RejectRT60
-				}
-			}
-			out = room.NewReverb(ir.ir, e.fs).Apply(ws.spare(cur), cur, e.fs)
-		case "ir":
-			ir := e.fileIR(rec.Text["file"])
-			if ir.err != nil {
-				reason = RejectIR
-				out = append(ws.spare(cur), cur...)
-				break
-			}
-			if ir.rt60Err != nil {
-				undefined(&rec, "rt60_s", fmt.Sprintf("impulse response %s: %v", rec.Text["file"], ir.rt60Err))
-				reason = RejectRT60Unmeasurable
-			} else {
-				rec.Params = map[string]float64{"rt60_s": ir.rt60}
-			}
-			out = ir.reverb.Apply(ws.spare(cur), cur, e.fs)
-		case "tempo":
-			out = Tempo{Factor: 1 + rec.Params["percent"]/100}.Apply(ws.spare(cur), cur, e.fs)
-		case "pitch":
-			out = Pitch{Cents: rec.Params["cents"]}.Apply(ws.spare(cur), cur, e.fs)
-		default:
-			panic("augment: unknown step kind " + rec.Kind)
+		se := stepEnv{env: e, step: d.Step, cond: c}
+		out := d.Params.apply(se, ws.spare(cur), cur)
+		if r := d.Params.guard(se); r != "" {
+			reason = r
 		}
 		ws.keep(cur, out)
 		cur = out
-		recs = append(recs, rec)
+		recs = append(recs, d.Record())
 	}
 	if reason == "" {
 		if !finiteSamples(cur) {
@@ -177,8 +72,12 @@ func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condit
 	return cur, recs, reason
 }
 
-// undefined records that a step's measured value has no value, and why.
+// undefined records that a step's measured value has no value, and why;
+// nothing when why is "".
 func undefined(rec *ledger.StepRecord, key, why string) {
+	if why == "" {
+		return
+	}
 	if rec.Undefined == nil {
 		rec.Undefined = map[string]string{}
 	}
@@ -209,30 +108,6 @@ func (w *workspace) keep(cur, out []float64) {
 	} else {
 		w.b = out
 	}
-}
-
-func cloneRecord(r ledger.StepRecord) ledger.StepRecord {
-	c := r
-	if r.Params != nil {
-		c.Params = make(map[string]float64, len(r.Params)+4)
-		for k, v := range r.Params {
-			c.Params[k] = v
-		}
-	}
-	if r.Text != nil {
-		c.Text = make(map[string]string, len(r.Text))
-		for k, v := range r.Text {
-			c.Text[k] = v
-		}
-	}
-	return c
-}
-
-func weighting(s string) Weighting {
-	if s == "A" {
-		return WeightA
-	}
-	return WeightNone
 }
 
 // measuredSNR re-measures a mix: the added component is out − in. Without

@@ -6,7 +6,6 @@ import (
 	"testing"
 
 	"thrum/machine"
-	"thrum/machine/ledger"
 )
 
 func testRecipe() *machine.Recipe {
@@ -24,8 +23,11 @@ func TestDrawKeepsOrderRangesAndIsDeterministic(t *testing.T) {
 	order := map[string]int{"speed": 0, "gain": 1, "noise": 2, "shift": 3}
 	counts := map[int]int{}
 	for seed := uint64(0); seed < 500; seed++ {
-		a := Draw(r, NewRand(seed), DrawContext{Condition: c})
-		b := Draw(r, NewRand(seed), DrawContext{Condition: c})
+		a, err := Draw(r, NewRand(seed), DrawContext{Condition: c})
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, _ := Draw(r, NewRand(seed), DrawContext{Condition: c})
 		if !reflect.DeepEqual(records(a), records(b)) {
 			t.Fatalf("seed %d: draws differ", seed)
 		}
@@ -34,13 +36,13 @@ func TestDrawKeepsOrderRangesAndIsDeterministic(t *testing.T) {
 		}
 		counts[len(a)]++
 		for i := 1; i < len(a); i++ {
-			if order[a[i-1].Record.Kind] >= order[a[i].Record.Kind] {
+			if order[a[i-1].Record().Kind] >= order[a[i].Record().Kind] {
 				t.Fatalf("seed %d: recipe order broken: %v", seed, records(a))
 			}
 		}
 		for _, d := range a {
-			p := d.Record.Params
-			switch d.Record.Kind {
+			p := d.Record().Params
+			switch d.Record().Kind {
 			case "speed":
 				pct := p["percent"]
 				if k := pct / 0.5; math.Abs(k-math.Round(k)) > 1e-9 || pct < -2 || pct > 2 {
@@ -57,7 +59,7 @@ func TestDrawKeepsOrderRangesAndIsDeterministic(t *testing.T) {
 				if p["snr_db"] < 0 || p["snr_db"] > 20 {
 					t.Fatalf("snr %g", p["snr_db"])
 				}
-				if col := d.Record.Text["colour"]; col != "white" && col != "pink" && col != "brown" {
+				if col := d.Record().Text["colour"]; col != "white" && col != "pink" && col != "brown" {
 					t.Fatalf("colour %q", col)
 				}
 			}
@@ -68,14 +70,6 @@ func TestDrawKeepsOrderRangesAndIsDeterministic(t *testing.T) {
 			t.Errorf("step count %d drawn %d times of 500: not uniform over min…max", k, counts[k])
 		}
 	}
-}
-
-func records(ds []Drawn) []ledger.StepRecord {
-	out := make([]ledger.StepRecord, len(ds))
-	for i := range ds {
-		out[i] = ds[i].Record
-	}
-	return out
 }
 
 func TestClampSpeed(t *testing.T) {
@@ -143,9 +137,13 @@ func TestNonphysicalStepsAreMarked(t *testing.T) {
 		{Kind: "pitch", Range: []float64{-50, 50}, Nonphysical: true},
 	}}
 	c := &machine.Condition{RPM: 1000, BandPercent: 1}
-	for _, d := range Draw(r, NewRand(3), DrawContext{Condition: c}) {
-		if !d.Record.Nonphysical {
-			t.Errorf("%s not marked non-physical in its record", d.Record.Kind)
+	drawn, err := Draw(r, NewRand(3), DrawContext{Condition: c})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, d := range drawn {
+		if !d.Record().Nonphysical {
+			t.Errorf("%s not marked non-physical in its record", d.Record().Kind)
 		}
 	}
 	if !Nonphysical(Tempo{Factor: 1.02}) || !Nonphysical(Pitch{Cents: 10}) || Nonphysical(Speed{Ratio: 1.01}) {

@@ -83,7 +83,11 @@ func Replay(inv *machine.Inventory, opt Options, rel string) (ReplayResult, erro
 			if recipe == nil {
 				return fmt.Errorf("no recipe for %s/%s", m.ID, j.c.Name)
 			}
-			y, got = e.render(&workspace{}, j, recipe, c, x, ent.Variant, st)
+			var err error
+			y, got, err = e.render(&workspace{}, j, recipe, c, x, ent.Variant, st)
+			if err != nil {
+				return err
+			}
 		case machine.OriginSyntheticFault:
 			plan := m.Faults
 			if plan == nil || ent.Fault == nil {

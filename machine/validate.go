@@ -28,12 +28,6 @@ func MachineKinds() []string {
 	return []string{"pump", "fan", "compressor", "gearbox", "motor", "conveyor", "blower", "turbine"}
 }
 
-// StepKinds are the recipe step kinds. tempo and pitch are non-physical and
-// need nonphysical = true.
-func StepKinds() []string {
-	return []string{"speed", "gain", "invert", "shift", "filter", "noise", "background", "room", "ir", "tempo", "pitch"}
-}
-
 // FaultKinds are the synthetic fault cue kinds a fault plan may name.
 func FaultKinds() []string {
 	return []string{"outer-race", "inner-race", "ball", "cage", "impact", "imbalance", "misalignment", "gear-tooth"}
@@ -391,84 +385,19 @@ func (v *validator) recipe(p *Plant, r *Recipe, i int, loc, key string) {
 	if r.MinSteps < 1 || r.MinSteps > r.MaxSteps || r.MaxSteps > len(r.Steps) {
 		v.bad(loc, key+".min_steps", "min_steps", "need 1 ≤ min_steps (%d) ≤ max_steps (%d) ≤ number of steps (%d)", r.MinSteps, r.MaxSteps, len(r.Steps))
 	}
-	kinds := map[string]bool{}
-	for _, k := range StepKinds() {
-		kinds[k] = true
-	}
 	nyq := float64(p.SampleRate) / 2
 	for i := range r.Steps {
 		s := &r.Steps[i]
 		k, sloc := fmt.Sprintf("%s.step[%d]", key, i), fmt.Sprintf("%s.step.%d", loc, i)
-		if !kinds[s.Kind] {
+		check := stepRuleFor(s.Kind)
+		if check == nil {
 			v.bad(sloc, k+".kind", "kind", "%q is not one of %s", s.Kind, strings.Join(StepKinds(), ", "))
 			continue
 		}
 		if s.Increment < 0 {
 			v.bad(sloc, k+".increment", "increment", "must be ≥ 0")
 		}
-		needRange := func(lo, hi float64, unit string) { v.pair(sloc, k+".range", "range", s.Range, lo, hi, unit) }
-		switch s.Kind {
-		case "speed":
-			needRange(-20, 20, "%")
-		case "gain":
-			needRange(-40, 20, "dB")
-		case "invert", "room":
-			if len(s.Range) != 0 {
-				v.bad(sloc, k+".range", "range", "step kind %q takes no range", s.Kind)
-			}
-		case "shift":
-			needRange(-60000, 60000, "ms")
-			if s.Mode == "" {
-				s.Mode = "circular"
-			}
-			if s.Mode != "circular" && s.Mode != "zero" {
-				v.bad(sloc, k+".mode", "mode", "%q is not one of circular, zero", s.Mode)
-			}
-		case "filter":
-			switch s.Mode {
-			case "telephone":
-			case "lowpass", "highpass", "bandpass":
-				needRange(10, math.Max(nyq*0.98, 10), "Hz")
-			default:
-				v.bad(sloc, k+".mode", "mode", "%q is not one of lowpass, highpass, bandpass, telephone", s.Mode)
-			}
-			if s.Order < 0 || s.Order > 16 {
-				v.bad(sloc, k+".order", "order", "%d is outside 0 … 16", s.Order)
-			}
-			if s.Q < 0 || s.Q > 50 {
-				v.bad(sloc, k+".q", "q", "%g is outside 0 … 50", s.Q)
-			}
-		case "noise":
-			needRange(-20, 80, "dB")
-			if s.Mode == "" {
-				s.Mode = "any"
-			}
-			switch s.Mode {
-			case "white", "pink", "brown", "any":
-			default:
-				v.bad(sloc, k+".mode", "mode", "%q is not one of white, pink, brown, any", s.Mode)
-			}
-		case "background":
-			needRange(-20, 80, "dB")
-		case "ir":
-			if len(s.Files) == 0 {
-				v.bad(sloc, k+".files", "files", "step kind ir needs at least one impulse-response file")
-			}
-		case "tempo":
-			needRange(-50, 50, "%")
-		case "pitch":
-			needRange(-1200, 1200, "cents")
-		}
-		if s.Kind == "noise" || s.Kind == "background" {
-			switch s.Weighting {
-			case "", "none", "A":
-			default:
-				v.bad(sloc, k+".weighting", "weighting", "%q is not one of none, A", s.Weighting)
-			}
-		}
-		if (s.Kind == "tempo" || s.Kind == "pitch") && !s.Nonphysical {
-			v.bad(sloc, k+".nonphysical", "kind", "step kind %q breaks machine physics (harmonics no longer follow speed); set nonphysical = true to use it", s.Kind)
-		}
+		check(v, sloc, k, s, nyq)
 	}
 }
 
