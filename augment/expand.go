@@ -36,29 +36,49 @@ func (s Shard) Has(key string) bool {
 	return int(h.Sum64()%uint64(s.N)) == s.I
 }
 
-// Options configure the expand and faults stages. The zero value writes
-// nothing useful: Out is required.
+// Policy is the evaluation-safety policy the expand and faults stages
+// follow: split.TrainingPolicy(plant) builds it from the plant, so the
+// stages make variants and fault cues only where the split will train.
+type Policy interface {
+	// Trains reports whether a group of normal recordings will be a
+	// training group; variants and fault cues are made only for those (the
+	// split would exclude the others).
+	Trains(machineID, group string) bool
+	// Backgrounds returns the ids of the background files a training
+	// variant may mix in: the training share of the background partition.
+	// Empty: plant noise is synthesised instead.
+	Backgrounds() []string
+}
+
+// Options configure the expand and faults stages. Out and Policy are
+// required: the stages refuse to run without them.
 type Options struct {
 	// Out is the output root; it must not be inside the recordings root.
 	Out string
+	// Policy decides which groups get variants and fault cues and which
+	// backgrounds they may mix in (split.TrainingPolicy).
+	Policy Policy
 	// Workers is the number of recordings processed at once
 	// (pool.Size(Workers) goroutines).
 	Workers int
 	// Encoding of the written clips (0 = 16-bit PCM).
 	Encoding wavio.Encoding
-	// Backgrounds are the ids of the background files a training variant may
-	// mix in: the training share of the background partition. Nil means
-	// every declared background (only safe when no split is made).
-	Backgrounds []string
 	// Shard limits the work to one shard (zero value: everything).
 	Shard Shard
-	// Trains, when set, says whether a group of normal recordings will be
-	// a training group; variants and fault cues are made only for those
-	// (the split would exclude the others). Nil: every group.
-	Trains func(machineID, group string) bool
 	// Progress, when set, is called after each clip (counted in clips)
 	// from one goroutine at a time.
 	Progress func(pool.Event)
+}
+
+// check refuses options the stages cannot run safely with.
+func (o Options) check() error {
+	if o.Out == "" {
+		return errors.New("augment: no output folder")
+	}
+	if o.Policy == nil {
+		return errors.New("augment: Options.Policy is required: build it with split.TrainingPolicy(plant), so only training groups get variants and only training backgrounds are mixed in")
+	}
+	return nil
 }
 
 // Summary counts what a stage did per machine id.
@@ -102,8 +122,8 @@ type jobResult struct {
 
 func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage ledger.Stage) ([]Summary, error) {
 	p := inv.Plant
-	if opt.Out == "" {
-		return nil, errors.New("augment: no output folder")
+	if err := opt.check(); err != nil {
+		return nil, err
 	}
 	if err := CheckOutput(p, opt.Out); err != nil {
 		return nil, err
@@ -330,13 +350,7 @@ type irEntry struct {
 func newEnv(p *machine.Plant, m *machine.Machine, opt Options, plans *Plans) (*env, error) {
 	e := &env{p: p, m: m, opt: opt, fs: float64(p.SampleRate), holdOut: HoldOutBands(m),
 		bgFrames: map[string]int64{}, bg: map[string][]float64{}, bgBad: map[string]*machine.SampleError{}, bgPath: map[string]string{}, irs: map[string]*irEntry{}, plans: plans}
-	allowed := opt.Backgrounds
-	if allowed == nil {
-		for _, b := range p.Backgrounds {
-			allowed = append(allowed, b.ID)
-		}
-	}
-	for _, id := range allowed {
+	for _, id := range opt.Policy.Backgrounds() {
 		for _, b := range p.Backgrounds {
 			if b.ID != id || (b.Room != "" && m.Room != "" && b.Room != m.Room) {
 				continue
@@ -455,7 +469,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 	r := j.rec
 	recipe := e.p.RecipeFor(j.m, j.c)
 	augmentable := r.Label == machine.LabelNormal && !j.c.HoldOut && recipe != nil &&
-		(e.opt.Trains == nil || e.opt.Trains(r.Machine, r.Group))
+		e.opt.Policy.Trains(r.Machine, r.Group)
 	st := stem(r)
 	folder := "recorded"
 	if r.Label == machine.LabelAnomalous {

@@ -26,7 +26,7 @@ func (e *env) faultJob(ctx context.Context, j job) jobResult {
 	r := j.rec
 	plan := j.m.Faults
 	if plan == nil || r.Label != machine.LabelNormal || j.c.HoldOut || len(plan.Kinds) == 0 ||
-		(e.opt.Trains != nil && !e.opt.Trains(r.Machine, r.Group)) {
+		!e.opt.Policy.Trains(r.Machine, r.Group) {
 		return res
 	}
 	st := stem(r)

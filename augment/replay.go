@@ -29,8 +29,11 @@ var errFound = errors.New("found")
 // Replay regenerates the output at rel (a path relative to opt.Out, as in
 // the ledger) from its ledger line, the plant and the source recording, and
 // returns the regenerated file's hash next to the ledger's. Nothing is
-// written. opt must match the run that made the output (same backgrounds).
+// written. opt must match the run that made the output (same policy).
 func Replay(inv *machine.Inventory, opt Options, rel string) (ReplayResult, error) {
+	if err := opt.check(); err != nil {
+		return ReplayResult{}, err
+	}
 	rel = filepath.ToSlash(rel)
 	id, _, _ := strings.Cut(rel, "/")
 	p := inv.Plant

@@ -45,14 +45,22 @@
 //
 // # Use
 //
+// Before any split is made, the expand and faults stages follow the
+// training policy, which gives the answers Assign will give:
+//
+//	opt := augment.Options{Out: out, Policy: split.TrainingPolicy(plant)}
+//
+// so only training groups get variants and fault cues, and training
+// variants mix in only the train share of the background partition. The
+// split stage is one call; its parts are usable alone:
+//
+//	res, err := split.Run(ctx, plant, out)  // merge parts, assign, write lists
+//
 //	entries, _ := ledger.ReadTree(out)
 //	pol := split.PolicyFromPlant(plant)
 //	rows, err := split.Assign(ctx, split.ItemsFromLedger(entries), pol)
 //	err = split.WriteSplits(out, rows, pol)
 //	rep, err := split.Audit(ctx, out, split.AuditOptions{})  // rep.OK()
-//
-// Expansion should draw only backgrounds with
-// AssignBackgrounds(ids, pol)[id] == "train".
 //
 // # Files
 //

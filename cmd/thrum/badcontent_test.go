@@ -17,6 +17,7 @@ import (
 	"thrum/machine"
 	"thrum/machine/ledger"
 	"thrum/machine/wavio"
+	"thrum/split"
 )
 
 // badContentPlant is a small plant: one machine, two conditions of six
@@ -207,7 +208,7 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 					t.Fatal(err)
 				}
 				// only the training share of the backgrounds is mixed in
-				train := trainBackgrounds(p)
+				train := split.TrainingPolicy(p).Backgrounds()
 				if len(train) == 0 {
 					t.Fatal("no training background")
 				}

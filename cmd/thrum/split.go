@@ -10,7 +10,6 @@ import (
 
 	"thrum/augment"
 	"thrum/machine"
-	"thrum/machine/ledger"
 	"thrum/split"
 )
 
@@ -47,38 +46,15 @@ Lists go to DIR/splits/.`,
 }
 
 func runSplit(ctx context.Context, g *globals, o stageOptions, p *machine.Plant) error {
-	if _, err := ledger.Merge(p, o.Out); err != nil {
-		return err
-	}
-	tree, err := ledger.ReadTreeContext(ctx, o.Out)
+	res, err := split.Run(ctx, p, o.Out)
 	if err != nil {
 		return err
 	}
-	// only the plant's machines: a ledger left by a machine since removed
-	// from plant.toml is not split
-	var all []ledger.Entry
-	for _, e := range tree {
-		if p.Machine(e.Machine) != nil {
-			all = append(all, e)
-		}
-	}
-	if len(all) == 0 {
-		return fmt.Errorf("split: no ledger lines under %s: run expand first", o.Out)
-	}
-	pol := split.PolicyFromPlant(p)
-	rows, err := split.Assign(ctx, split.ItemsFromLedger(all), pol)
-	if err != nil {
-		return err
-	}
-	if err := split.WriteSplits(o.Out, rows, pol); err != nil {
-		return err
-	}
-	for _, w := range split.EmptySplits(rows, pol) {
+	for _, w := range res.Warnings {
 		fmt.Fprintf(g.stderr, "split: warning: %s\n", w)
 	}
-	sum := split.Summarize(rows)
 	if o.JSON {
-		for _, s := range sum {
+		for _, s := range res.Summary {
 			writeJSONLine(g.stdout, map[string]any{"event": "split", "machine": s.Machine, "split": s.Split,
 				"origin": s.Origin, "label": s.Label, "files": s.Files, "groups": s.Groups})
 		}
@@ -86,7 +62,7 @@ func runSplit(ctx context.Context, g *globals, o stageOptions, p *machine.Plant)
 	}
 	tw := tabwriter.NewWriter(g.stdout, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "machine\tsplit\torigin\tlabel\tfiles\tgroups")
-	for _, s := range sum {
+	for _, s := range res.Summary {
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%d\n", s.Machine, s.Split, s.Origin, s.Label, s.Files, s.Groups)
 	}
 	fmt.Fprintf(tw, "lists written to %s\n", filepath.Join(o.Out, split.SplitsDir))

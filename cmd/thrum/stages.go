@@ -125,8 +125,8 @@ func loadPlant(ctx context.Context, plantPath, out string) (*machine.Inventory, 
 	return machine.Scan(ctx, p, machine.ScanOptions{})
 }
 
-// augmentOptions builds the stage options: training variants may only mix
-// backgrounds of the training share of the background partition.
+// augmentOptions translates the flags into the stage options; the
+// training policy comes from the split package.
 func augmentOptions(inv *machine.Inventory, o stageOptions, r *renderer) (augment.Options, error) {
 	enc, err := o.encoding()
 	if err != nil {
@@ -136,25 +136,8 @@ func augmentOptions(inv *machine.Inventory, o stageOptions, r *renderer) (augmen
 	if err != nil {
 		return augment.Options{}, err
 	}
-	pol := split.PolicyFromPlant(inv.Plant)
-	trains := func(m, group string) bool { return pol.NormalGroupSplit(m, group) == machine.SplitTrain }
-	return augment.Options{Out: o.Out, Workers: o.Workers, Encoding: enc, Shard: sh,
-		Backgrounds: trainBackgrounds(inv.Plant), Trains: trains, Progress: r.event}, nil
-}
-
-func trainBackgrounds(p *machine.Plant) []string {
-	var ids []string
-	for _, b := range p.Backgrounds {
-		ids = append(ids, b.ID)
-	}
-	part := split.AssignBackgrounds(ids, split.PolicyFromPlant(p))
-	out := []string{}
-	for _, id := range ids {
-		if part[id] == machine.SplitTrain {
-			out = append(out, id)
-		}
-	}
-	return out
+	return augment.Options{Out: o.Out, Policy: split.TrainingPolicy(inv.Plant), Workers: o.Workers,
+		Encoding: enc, Shard: sh, Progress: r.event}, nil
 }
 
 func newExpandCmd(g *globals) *cobra.Command {
