@@ -1,13 +1,10 @@
 package augment
 
 import (
-	"fmt"
 	"math"
 
-	"thrum/augment/room"
 	"thrum/machine"
 	"thrum/machine/ledger"
-	"thrum/machine/wavio"
 )
 
 // Rejection reasons recorded in the ledger by the credibility guard.
@@ -153,65 +150,4 @@ func snrUndefined(in, out []float64) string {
 // target must lie inside the step's range.
 func snrOK(got, target float64, r []float64) bool {
 	return math.Abs(got-target) <= 0.1 && target >= r[0]-1e-9 && target <= r[1]+1e-9
-}
-
-// cachedIR returns the cache entry for key, filled once by fill.
-func (e *env) cachedIR(key string, fill func(*irEntry)) *irEntry {
-	e.mu.Lock()
-	ent := e.irs[key]
-	if ent == nil {
-		ent = &irEntry{}
-		e.irs[key] = ent
-	}
-	e.mu.Unlock()
-	ent.once.Do(func() { fill(ent) })
-	return ent
-}
-
-func (e *env) roomIR(i int) *irEntry {
-	return e.cachedIR(fmt.Sprintf("mic:%d", i), func(ent *irEntry) {
-		if e.room == nil || i >= len(e.mics) {
-			ent.err = fmt.Errorf("augment: machine %s has no room and zone", e.m.ID)
-			return
-		}
-		var src [3]float64
-		copy(src[:], e.m.Position)
-		h, err := room.ImpulseResponse(nil, *e.room, src, e.mics[i], e.fs, room.Config{})
-		if err != nil {
-			ent.err = err
-			return
-		}
-		ent.rt60, ent.rt60Err = room.T30(h, e.fs)
-		// The recording is the machine's sound as heard near it: scale the
-		// response so its direct path has unit gain (×4πd), and the step
-		// adds the room's reflections at the drawn position instead of
-		// turning the level down by the free-field 1/(4πd).
-		mic := e.mics[i]
-		d := math.Sqrt((src[0]-mic[0])*(src[0]-mic[0]) + (src[1]-mic[1])*(src[1]-mic[1]) + (src[2]-mic[2])*(src[2]-mic[2]))
-		scale := 4 * math.Pi * math.Max(d, room.MinDistance)
-		for k := range h {
-			h[k] *= scale
-		}
-		ent.ir = h
-		ent.distance = d
-	})
-}
-
-func (e *env) fileIR(file string) *irEntry {
-	return e.cachedIR("file:"+file, func(ent *irEntry) {
-		a, err := wavio.ReadFile(e.p.Resolve(file))
-		if err != nil {
-			ent.err = err
-			return
-		}
-		if a.Format.SampleRate != e.p.SampleRate {
-			ent.err = fmt.Errorf("augment: impulse response %s: sample rate %d Hz, working rate %d Hz", file, a.Format.SampleRate, e.p.SampleRate)
-			return
-		}
-		h := room.UnitEnergy(a.Mono(nil))
-		// measured responses are few: keep the convolver (kernel spectra)
-		ent.reverb = room.NewReverb(h, e.fs)
-		ent.rt60, ent.rt60Err = room.T30(h, e.fs)
-		ent.ir = h
-	})
 }

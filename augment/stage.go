@@ -1,0 +1,204 @@
+package augment
+
+import (
+	"context"
+	"fmt"
+	"path/filepath"
+	"sort"
+
+	"thrum/machine"
+	"thrum/machine/ledger"
+	"thrum/machine/pool"
+)
+
+// The stage driver shared by expand and faults: jobs (one per usable
+// recording of the shard) on the worker pool, resuming from the previous
+// ledger, and committing each machine's ledger section.
+
+// job is one usable recording of the shard, with its index in job order.
+type job struct {
+	index int
+	rec   *machine.Recording
+	m     *machine.Machine
+	c     *machine.Condition
+}
+
+// jobResult is what a job wrote or reused, as ledger entries.
+type jobResult struct {
+	job     job
+	entries []ledger.Entry
+	reused  int
+	ticked  int64 // clips reported to the progress reporter
+	err     error
+}
+
+// runStage runs the expand or faults stage: one job per usable recording
+// of the shard on the worker pool, each machine's previous ledger loaded
+// for reuse and its journal opened, then each machine's section committed
+// in job order.
+func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage ledger.Stage) ([]Summary, error) {
+	p := inv.Plant
+	if err := opt.check(); err != nil {
+		return nil, err
+	}
+	if err := CheckOutput(p, opt.Out); err != nil {
+		return nil, err
+	}
+	envs := map[string]*env{}
+	plans := &Plans{} // resampler plans, shared by every machine of the run
+	var jobs []job
+	for _, r := range inv.Recordings {
+		if !r.Usable() {
+			continue
+		}
+		m := p.Machine(r.Machine)
+		if !opt.Shard.Has(r.Machine + "/" + r.Rel) {
+			continue
+		}
+		if envs[m.ID] == nil {
+			e, err := newEnv(p, m, opt, plans)
+			if err != nil {
+				return nil, err
+			}
+			envs[m.ID] = e
+		}
+		jobs = append(jobs, job{index: len(jobs), rec: r, m: m, c: m.Condition(r.Condition)})
+	}
+	// previous entries, for resuming
+	for id, e := range envs {
+		old, err := ledger.Load(filepath.Join(opt.Out, id))
+		if err != nil {
+			return nil, err
+		}
+		e.previous = map[string]ledger.Entry{}
+		for _, x := range old {
+			if x.Stage == stage {
+				e.previous[entryKey(x)] = x
+			}
+		}
+		j, err := ledger.OpenJournal(filepath.Join(opt.Out, id), stage, ledger.Shard(opt.Shard))
+		if err != nil {
+			return nil, err
+		}
+		e.journal = j
+		defer j.Close()
+	}
+
+	var clips int64
+	for _, j := range jobs {
+		clips += int64(len(j.rec.Clips))
+	}
+	prog := pool.NewReporter(opt.Progress, string(stage), pool.UnitClips, clips)
+	for _, e := range envs {
+		e.progress = prog
+	}
+	results := make([][]ledger.Entry, len(jobs))
+	reused := make([]int, len(jobs))
+	err := pool.Each(ctx, len(jobs), opt.Workers, func(ctx context.Context, _, i int) error {
+		j := jobs[i]
+		e := envs[j.m.ID]
+		var r jobResult
+		if stage == ledger.Faults {
+			r = e.faultJob(ctx, j)
+		} else {
+			r = e.expandJob(ctx, j)
+		}
+		if r.err != nil {
+			return r.err
+		}
+		results[i], reused[i] = r.entries, r.reused
+		// The clips a job did not report one by one (a recording with no
+		// fault plan, say) count as done with it.
+		w, rej := 0, 0
+		for _, e := range r.entries {
+			if e.Kind == ledger.KindRejected {
+				rej++
+			} else {
+				w++
+			}
+		}
+		prog.Add(int64(len(j.rec.Clips))-r.ticked, w, rej, j.m.ID, j.rec.Rel)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	sums := map[string]*Summary{}
+	for i, j := range jobs {
+		s := sums[j.m.ID]
+		if s == nil {
+			s = &Summary{Machine: j.m.ID, Rejected: map[string]int{}, Undefined: map[string]int{}, Faults: map[string]int{}}
+			sums[j.m.ID] = s
+		}
+		s.Clips += len(j.rec.Clips)
+		s.Reused += reused[i]
+		for _, e := range results[i] {
+			if e.Kind == ledger.KindRejected {
+				s.Rejected[e.Reason]++
+				countUndefined(s.Undefined, e)
+				continue
+			}
+			s.Written++
+			switch e.Origin {
+			case machine.OriginRecorded:
+				s.Recorded++
+			case machine.OriginAugmented:
+				s.Augmented++
+			case machine.OriginSyntheticFault:
+				s.Faults[e.Fault.Kind]++
+			}
+		}
+	}
+	// commit each machine's section in job order
+	byMachine := map[string][]ledger.Entry{}
+	for i, j := range jobs {
+		byMachine[j.m.ID] = append(byMachine[j.m.ID], results[i]...)
+	}
+	var ids []string
+	for id := range envs {
+		ids = append(ids, id)
+	}
+	sort.Strings(ids)
+	var out2 []Summary
+	for _, id := range ids {
+		envs[id].journal.Close()
+		if err := commit(opt, envs[id].m, stage, byMachine[id]); err != nil {
+			return nil, err
+		}
+		if s := sums[id]; s != nil {
+			out2 = append(out2, *s)
+		}
+	}
+	return out2, nil
+}
+
+// countUndefined counts a rejected line's undefined values by reason and
+// cause.
+func countUndefined(m map[string]int, e ledger.Entry) {
+	for _, st := range e.Steps {
+		for _, why := range st.Undefined {
+			m[e.Reason+": "+why]++
+		}
+	}
+	for field, why := range e.Undefined {
+		m[e.Reason+": "+field+": "+why]++
+	}
+}
+
+// commit writes the stage's section in canonical order: the whole ledger
+// when unsharded, a ledger part when sharded (joined later by ledger.Merge).
+func commit(opt Options, m *machine.Machine, stage ledger.Stage, entries []ledger.Entry) error {
+	ledger.Sort(m, entries)
+	return ledger.Commit(filepath.Join(opt.Out, m.ID), stage, ledger.Shard(opt.Shard), entries)
+}
+
+func entryKey(e ledger.Entry) string {
+	return fmt.Sprintf("%s|%d|%s|%d|%s", e.Source, e.Clip, e.Origin, e.Variant, faultKind(e))
+}
+
+func faultKind(e ledger.Entry) string {
+	if e.Fault != nil {
+		return e.Fault.Kind
+	}
+	return ""
+}

@@ -1,0 +1,137 @@
+package augment
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"path"
+	"path/filepath"
+	"strings"
+
+	"thrum/machine"
+	"thrum/machine/ledger"
+	"thrum/machine/wavio"
+)
+
+// Writing outputs: file names, ledger entries, progress per clip, and
+// reusing what a previous run already wrote.
+
+// stem turns a recording's path inside its condition folder into a file
+// name stem: folders joined with "--", unsafe characters replaced.
+func stem(r *machine.Recording) string {
+	rel := strings.TrimPrefix(r.Rel, r.Machine+"/"+r.Condition+"/")
+	rel = strings.TrimPrefix(rel, machine.AnomalousDir+"/")
+	rel = strings.TrimSuffix(rel, path.Ext(rel))
+	var b strings.Builder
+	for _, c := range rel {
+		switch {
+		case c == '/':
+			b.WriteString("--")
+		case c >= 'a' && c <= 'z', c >= 'A' && c <= 'Z', c >= '0' && c <= '9', c == '-', c == '_', c == '.':
+			b.WriteRune(c)
+		default:
+			b.WriteByte('_')
+		}
+	}
+	return b.String()
+}
+
+func (e *env) base(r *machine.Recording, c machine.Clip) ledger.Entry {
+	return ledger.Entry{
+		Kind: ledger.KindOutput, Source: r.Rel, SourceSHA256: r.SHA256, Clip: c.Index,
+		ClipStart: c.Start, ClipFrames: c.Frames, Machine: r.Machine, Condition: r.Condition,
+		Label: r.Label, Group: r.Group, SampleRate: e.p.SampleRate, Speed: 1, Scale: 1, Tool: machine.ToolVersion,
+	}
+}
+
+func drawHash(steps []ledger.StepRecord) string {
+	b, _ := json.Marshal(steps)
+	s := sha256.Sum256(b)
+	return hex.EncodeToString(s[:8])
+}
+
+// reusable returns a previous entry when it still describes this output and
+// its file on disk hashes to the recorded value.
+func (e *env) reusable(want ledger.Entry) (ledger.Entry, bool) {
+	old, ok := e.previous[entryKey(want)]
+	if !ok || old.Seed != want.Seed || old.Draw != want.Draw || old.SourceSHA256 != want.SourceSHA256 {
+		return ledger.Entry{}, false
+	}
+	if old.Kind == ledger.KindRejected {
+		return old, true
+	}
+	if old.Path != want.Path {
+		return ledger.Entry{}, false
+	}
+	sum, err := machine.HashFile(filepath.Join(e.opt.Out, filepath.FromSlash(old.Path)))
+	if err != nil || sum != old.SHA256 {
+		return ledger.Entry{}, false
+	}
+	return old, true
+}
+
+// reuse appends a previous entry that still describes want (same draw,
+// seed, source and file hash) and reports whether it did.
+func (e *env) reuse(res *jobResult, want ledger.Entry) bool {
+	old, ok := e.reusable(want)
+	if ok {
+		res.entries = append(res.entries, old)
+		res.reused++
+	}
+	return ok
+}
+
+// write encodes x, writes it atomically under Out and returns its sha256.
+func (e *env) write(rel string, x []float64) (string, error) {
+	enc := e.opt.Encoding
+	if enc == 0 {
+		enc = wavio.PCM16
+	}
+	var buf bytes.Buffer
+	buf.Grow(len(x)*3 + 64)
+	if err := wavio.Encode(&buf, x, e.p.SampleRate, 1, enc); err != nil {
+		return "", err
+	}
+	if err := machine.WriteFileAtomic(filepath.Join(e.opt.Out, filepath.FromSlash(rel)), buf.Bytes()); err != nil {
+		return "", err
+	}
+	s := sha256.Sum256(buf.Bytes())
+	return hex.EncodeToString(s[:]), nil
+}
+
+// emit writes y for an output entry (a rejected one has no file), then
+// journals the entry and appends it to the job's result.
+func (e *env) emit(res *jobResult, ent ledger.Entry, y []float64) error {
+	if ledger.Check(&ent) != nil {
+		// belt and braces: the steps record undefined values themselves,
+		// but a NaN that slips through rejects the variant, not the stage
+		ent = ledger.Defined(ent, "not finite")
+		ent.Kind, ent.Reason, ent.Path = ledger.KindRejected, RejectNonFiniteValue, ""
+	}
+	if ent.Kind == ledger.KindOutput {
+		sum, err := e.write(ent.Path, y)
+		if err != nil {
+			return err
+		}
+		ent.SHA256 = sum
+	}
+	if err := e.journal.Append(ent); err != nil {
+		return err
+	}
+	res.entries = append(res.entries, ent)
+	return nil
+}
+
+// counted wraps a per-clip function so that every clip it finishes is
+// reported as progress.
+func (e *env) counted(res *jobResult, fn func(machine.Clip, []float64) error) func(machine.Clip, []float64) error {
+	return func(c machine.Clip, x []float64) error {
+		if err := fn(c, x); err != nil {
+			return err
+		}
+		res.ticked++
+		e.progress.Add(1, 0, 0, res.job.m.ID, res.job.rec.Rel)
+		return nil
+	}
+}
