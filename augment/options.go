@@ -69,4 +69,7 @@ type Summary struct {
 	Faults    map[string]int
 	Recorded  int
 	Augmented int
+	// Stale lists the outputs no ledger line names any more, moved to
+	// OUT/.stale by an unsharded run (paths relative to Out, as they were).
+	Stale []string
 }

@@ -44,6 +44,11 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 	if err := CheckOutput(p, opt.Out); err != nil {
 		return nil, err
 	}
+	for i := range p.Machines {
+		if err := removeTemps(opt.Out, &p.Machines[i], opt); err != nil {
+			return nil, err
+		}
+	}
 	envs := map[string]*env{}
 	plans := &Plans{} // resampler plans, shared by every machine of the run
 	var jobs []job
@@ -154,20 +159,40 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 	for i, j := range jobs {
 		byMachine[j.m.ID] = append(byMachine[j.m.ID], results[i]...)
 	}
+	// Every machine of the plant commits, those without work in this run
+	// too: a shard writes an empty part (the join never waits for a part
+	// that cannot come), an unsharded run drops the lines of recordings
+	// that are gone.
 	var ids []string
-	for id := range envs {
-		ids = append(ids, id)
+	for _, m := range p.Machines {
+		ids = append(ids, m.ID)
 	}
 	sort.Strings(ids)
 	var out2 []Summary
 	for _, id := range ids {
-		envs[id].journal.Close()
-		if err := commit(opt, envs[id].m, stage, byMachine[id]); err != nil {
+		if e := envs[id]; e != nil {
+			e.journal.Close()
+		}
+		m := p.Machine(id)
+		if err := commit(opt, m, stage, byMachine[id]); err != nil {
 			return nil, err
 		}
-		if s := sums[id]; s != nil {
-			out2 = append(out2, *s)
+		stale, err := sweep(opt.Out, m, stage, opt)
+		if err != nil {
+			return nil, err
 		}
+		if err := removeTemps(opt.Out, m, opt); err != nil {
+			return nil, err
+		}
+		s := sums[id]
+		if s == nil {
+			if len(stale) == 0 {
+				continue
+			}
+			s = &Summary{Machine: id, Rejected: map[string]int{}, Undefined: map[string]int{}, Faults: map[string]int{}}
+		}
+		s.Stale = stale
+		out2 = append(out2, *s)
 	}
 	return out2, nil
 }

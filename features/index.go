@@ -6,6 +6,7 @@ package features
 import (
 	"bytes"
 	"encoding/csv"
+	"io"
 	"math"
 	"os"
 	"strconv"
@@ -50,19 +51,32 @@ func finite(x float64) float64 {
 }
 
 func readIndex(file string) map[string]*indexRow {
-	out := map[string]*indexRow{}
 	f, err := os.Open(file)
 	if err != nil {
-		return out
+		return map[string]*indexRow{}
 	}
 	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
+	return readIndexFrom(f)
+}
+
+// readIndexFrom reads a previous index.csv for reuse: audio path → its
+// audio and feature hashes. An index it cannot read, or without those
+// columns, gives nothing to reuse (every feature is recomputed), never an
+// error.
+func readIndexFrom(r io.Reader) map[string]*indexRow {
+	out := map[string]*indexRow{}
+	recs, err := csv.NewReader(r).ReadAll()
 	if err != nil || len(recs) == 0 {
 		return out
 	}
 	col := map[string]int{}
 	for i, h := range recs[0] {
 		col[h] = i
+	}
+	for _, k := range []string{"audio", "audio_sha256", "features_sha256"} {
+		if _, ok := col[k]; !ok {
+			return out
+		}
 	}
 	for _, r := range recs[1:] {
 		if len(r) != len(recs[0]) {

@@ -29,7 +29,7 @@ func faultRank(p string) int {
 // pictures draws, for one machine, a recorded clip next to one of its
 // augmented variants, and the envelope spectrum of a fault cue with its
 // defect lines marked.
-func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input, all []fileResult, idx []int) error {
+func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input, all []fileResult, idx []int, kept map[string]bool) error {
 	lm, err := NewLogMel(st.cfg, float64(p.SampleRate))
 	if err != nil {
 		return err
@@ -53,7 +53,7 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 			}
 		}
 	}
-	dir := filepath.Join(out, Dir, "pictures")
+	dir := filepath.Join(out, Dir, PicturesDir)
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
@@ -65,6 +65,7 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 		if err := SpectrogramPNG(filepath.Join(dir, id+"-spectrogram.png"), panels); err != nil {
 			return err
 		}
+		kept[path.Join(Dir, PicturesDir, id+"-spectrogram.png")] = true
 	}
 	if flt >= 0 {
 		ents, err := ledger.ReadFile(ledger.Path(out, id))
@@ -99,6 +100,7 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 				if err := EnvelopePNG(filepath.Join(dir, id+"-envelope-"+e.Fault.Kind+".png"), spec[:keep], binHz, lines); err != nil {
 					return err
 				}
+				kept[path.Join(Dir, PicturesDir, id+"-envelope-"+e.Fault.Kind+".png")] = true
 			}
 			break
 		}

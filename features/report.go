@@ -61,7 +61,10 @@ func WriteReport(path string, d ReportData) error {
 	if err := RenderReport(&buf, d); err != nil {
 		return err
 	}
-	return machine.WriteFileAtomic(path, buf.Bytes())
+	if err := machine.WriteFileAtomic(path, buf.Bytes()); err != nil {
+		return err
+	}
+	return machine.RemoveTempsOf(path)
 }
 
 // RenderReport writes the report's HTML to w. For each machine it embeds

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"math"
 	"os"
+	"path"
 	"path/filepath"
 
 	"thrum/machine"
@@ -14,7 +15,7 @@ import (
 
 // writeStacks streams each split's feature arrays, read back from their
 // .npy files in index order, into one (rows, bands) array per split.
-func writeStacks(out, id string, bands int, inputs []Input, all []fileResult, idx []int) error {
+func writeStacks(out, id string, bands int, inputs []Input, all []fileResult, idx []int, keep map[string]bool) error {
 	for _, sp := range []machine.Split{machine.SplitTrain, machine.SplitEval, machine.SplitTest} {
 		var files []string
 		for _, i := range idx {
@@ -42,6 +43,7 @@ func writeStacks(out, id string, bands int, inputs []Input, all []fileResult, id
 		if err := sf.Close(); err != nil {
 			return err
 		}
+		keep[path.Join(Dir, id, "stack-"+string(sp)+".npy")] = true
 	}
 	return nil
 }

@@ -17,7 +17,9 @@ import (
 const (
 	Dir       = "features"
 	IndexFile = "index.csv"
-	StatsFile = "stats.json"
+	// PicturesDir is the folder of the pictures, inside Dir.
+	PicturesDir = "pictures"
+	StatsFile   = "stats.json"
 )
 
 // Input is one audio file of the split lists.
@@ -46,6 +48,10 @@ type StageSummary struct {
 	Machine              string
 	Files, Masked, Reuse int
 	StatsInputs          int
+	// Stale lists the feature files and pictures of the machine that
+	// nothing of this run names any more, moved to OUT/.stale (paths
+	// relative to the output root, as they were).
+	Stale []string
 }
 
 // RunStage computes the features of every input: log-mel per clip (.npy,
@@ -78,6 +84,9 @@ func RunStage(ctx context.Context, p *machine.Plant, inputs []Input, opt StageOp
 			return nil, err
 		}
 		setups[in.Machine] = s
+	}
+	if _, err := machine.RemoveTemps(filepath.Join(opt.Out, Dir)); err != nil {
+		return nil, fmt.Errorf("features: %w", err)
 	}
 	old := readIndex(filepath.Join(opt.Out, Dir, IndexFile))
 	keep := pictureInputs(inputs, setups)
@@ -146,6 +155,7 @@ func pictureInputs(inputs []Input, setups map[string]machineSetup) map[int]bool 
 // arrays, the index and pictures.
 func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult, setups map[string]machineSetup) ([]StageSummary, error) {
 	var sums []StageSummary
+	keep := map[string]bool{} // every file this run wrote or verified
 	byMachine := map[string][]int{}
 	var ids []string
 	for i, in := range inputs {
@@ -166,6 +176,10 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 				s.Reuse++
 			}
 			masked = append(masked, r.masked...)
+			keep[r.row.npy], keep[r.row.env] = true, true
+			for _, e := range r.masked {
+				keep[e.Path] = true
+			}
 			if inputs[i].Split == machine.SplitTrain && inputs[i].Origin != machine.OriginSyntheticFault {
 				if err := acc.AddMoments(inputs[i].Path, r.moments); err != nil {
 					return nil, err
@@ -186,16 +200,28 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 			return nil, err
 		}
 		if st.stack {
-			if err := writeStacks(out, id, st.cfg.Bands, inputs, all, byMachine[id]); err != nil {
+			if err := writeStacks(out, id, st.cfg.Bands, inputs, all, byMachine[id], keep); err != nil {
 				return nil, err
 			}
 		}
 		if st.pictures {
-			if err := pictures(p, out, id, st, inputs, all, byMachine[id]); err != nil {
+			if err := pictures(p, out, id, st, inputs, all, byMachine[id], keep); err != nil {
 				return nil, err
 			}
 		}
 		sums = append(sums, s)
 	}
-	return sums, writeIndex(filepath.Join(out, Dir, IndexFile), all)
+	if err := writeIndex(filepath.Join(out, Dir, IndexFile), all); err != nil {
+		return nil, err
+	}
+	// machines of the plant with no input this time: their features
+	// section goes (an empty commit into no ledger writes nothing)
+	for _, m := range p.Machines {
+		if byMachine[m.ID] == nil {
+			if err := ledger.Commit(filepath.Join(out, m.ID), ledger.Features, ledger.Shard{}, nil); err != nil {
+				return nil, err
+			}
+		}
+	}
+	return sweepFeatures(p, out, sums, keep)
 }

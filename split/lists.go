@@ -245,11 +245,16 @@ func BackgroundIDs(rows []Row, p Policy) []string {
 }
 
 // WriteSplits writes OUT/splits/{lists.csv, summary.csv, backgrounds.csv,
-// plan.json}, each to a temporary file renamed into place.
+// plan.json}, each to a temporary file renamed into place. Temporary files
+// of killed writes in OUT/splits are removed before and after; the caller
+// holds the output root's lock.
 func WriteSplits(out string, rows []Row, p Policy) error {
 	dir := filepath.Join(out, SplitsDir)
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("split: %w", err)
+	}
+	if _, err := machine.RemoveTemps(dir); err != nil {
+		return err
 	}
 	bg := AssignBackgrounds(BackgroundIDs(rows, p), p)
 	files := []struct {
@@ -270,7 +275,8 @@ func WriteSplits(out string, rows []Row, p Policy) error {
 			return err
 		}
 	}
-	return nil
+	_, err := machine.RemoveTemps(dir)
+	return err
 }
 
 // ReadSplits reads OUT/splits/lists.csv and plan.json.

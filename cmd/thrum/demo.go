@@ -47,5 +47,5 @@ func runDemo(ctx context.Context, g *globals, o demoOptions, dir string) error {
 	}
 	out := filepath.Join(dir, "out")
 	fmt.Fprintf(g.stdout, "\nrunning the pipeline: thrum run %s --out %s\n", plantPath, out)
-	return runPipeline(ctx, g, stageOptions{Out: out, Workers: o.Workers, Quiet: o.Quiet}, plantPath)
+	return runPipeline(ctx, g, stageOptions{Out: out, Workers: o.Workers, Quiet: o.Quiet, Command: "thrum demo " + dir}, plantPath)
 }

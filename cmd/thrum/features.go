@@ -6,7 +6,6 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"thrum/augment"
 	"thrum/features"
 	"thrum/machine"
 	"thrum/machine/ledger"
@@ -33,20 +32,27 @@ pictures. Excluded files get no features.`,
 			if err != nil {
 				return err
 			}
-			if err := augment.CheckOutput(p, o.Out); err != nil {
+			o.Command = commandLine(cmd, args)
+			lock, err := holdOut(cmd.Context(), g, p, o, ledger.Shard{})
+			if err != nil {
 				return err
 			}
+			defer lock.Release()
 			sums, err := runFeatures(cmd.Context(), g, o, p)
 			if err != nil {
 				return err
 			}
 			for _, s := range sums {
-				fmt.Fprintf(g.stdout, "features %-14s files %5d  masked copies %5d  statistics from %d training clips\n", s.Machine, s.Files, s.Masked, s.StatsInputs)
+				if s.Files > 0 {
+					fmt.Fprintf(g.stdout, "features %-14s files %5d  masked copies %5d  statistics from %d training clips\n", s.Machine, s.Files, s.Masked, s.StatsInputs)
+				}
+				printStale(g, "features", o.Out, s.Stale)
 			}
 			return nil
 		},
 	}
 	cmd.Flags().StringVarP(&o.Out, "out", "o", "", "output root (required)")
+	o.addLockFlag(cmd)
 	cmd.Flags().IntVarP(&o.Workers, "jobs", "j", 0, "files processed at once (0 = one per available CPU)")
 	cmd.Flags().BoolVarP(&o.Quiet, "quiet", "q", false, "no progress output")
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "progress as JSON lines on stdout")

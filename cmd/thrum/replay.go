@@ -15,7 +15,9 @@ func newReplayCmd(g *globals) *cobra.Command {
 		Short: "Regenerate outputs from their ledger lines and verify their hashes",
 		Long: `replay regenerates each named output (a path relative to the output root, as in the
 ledger) from the plant, the source recording and its ledger line, and checks that the result
-hashes to the ledger's sha256. Nothing is written. Exit code 3 when any output differs.`,
+hashes to the ledger's sha256 ("ledger hash mismatch" otherwise) and that the file on disk
+still holds those bytes ("file on disk differs (corrupted or edited)" otherwise, with its
+path). Nothing is written. Exit code 3 when any output fails.`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			if len(args) < 2 {
 				return &usageError{fmt.Errorf("replay needs the plant file and at least one output path")}
@@ -43,7 +45,15 @@ hashes to the ledger's sha256. Nothing is written. Exit code 3 when any output d
 					continue
 				}
 				if !res.OK() {
-					fmt.Fprintf(g.stdout, "FAIL %s: regenerated sha256 %s, ledger %s\n", rel, res.SHA256, res.Entry.SHA256)
+					if !res.LedgerOK() {
+						fmt.Fprintf(g.stdout, "FAIL %s: ledger hash mismatch: regenerated sha256 %s, ledger %s\n", rel, res.SHA256, res.Entry.SHA256)
+					}
+					switch {
+					case res.DiskErr != nil:
+						fmt.Fprintf(g.stdout, "FAIL %s: file on disk cannot be read: %v\n", rel, res.DiskErr)
+					case !res.DiskOK():
+						fmt.Fprintf(g.stdout, "FAIL %s: file on disk differs (corrupted or edited): %s sha256 %s, regenerated %s\n", rel, res.File, res.Disk, res.SHA256)
+					}
 					bad++
 					continue
 				}

@@ -36,10 +36,12 @@ joins the parts and finishes split, features and audit.`,
 			if err := o.validate(); err != nil {
 				return err
 			}
+			o.Command = commandLine(cmd, args)
 			return runPipeline(cmd.Context(), g, o, args[0])
 		},
 	}
 	o.addFlags(cmd)
+	o.addLockFlag(cmd)
 	return cmd
 }
 
@@ -55,10 +57,12 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	if err != nil {
 		return err
 	}
-	if err := augment.CheckOutput(p, o.Out); err != nil {
+	sh, _ := o.shard()
+	lock, err := holdOut(ctx, g, p, o, ledger.Shard(sh))
+	if err != nil {
 		return err
 	}
-	sh, _ := o.shard()
+	defer lock.Release()
 	if sh.N <= 1 {
 		if _, err := ledger.Merge(p, o.Out); err != nil {
 			return err
@@ -88,6 +92,12 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	}
 	printUndefined(g, "expand", exp)
 	printUndefined(g, "faults", flt)
+	for _, s := range exp {
+		printStale(g, "expand", o.Out, s.Stale)
+	}
+	for _, s := range flt {
+		printStale(g, "faults", o.Out, s.Stale)
+	}
 	if sh.N > 1 {
 		printSummaries(g, o.JSON, "expand", exp)
 		printSummaries(g, o.JSON, "faults", flt)
@@ -97,8 +107,12 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	if err := runSplitQuiet(ctx, p, o.Out, g.stderr); err != nil {
 		return err
 	}
-	if _, err := runFeatures(ctx, g, o, p); err != nil {
+	fsums, err := runFeatures(ctx, g, o, p)
+	if err != nil {
 		return err
+	}
+	for _, s := range fsums {
+		printStale(g, "features", o.Out, s.Stale)
 	}
 	rep, err := split.Audit(ctx, o.Out, split.AuditOptions{})
 	if err != nil {

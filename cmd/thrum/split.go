@@ -8,7 +8,6 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"thrum/augment"
 	"thrum/machine"
 	"thrum/split"
 )
@@ -34,13 +33,17 @@ Lists go to DIR/splits/.`,
 			if err != nil {
 				return err
 			}
-			if err := augment.CheckOutput(p, o.Out); err != nil {
+			o.Command = commandLine(cmd, args)
+			lock, err := holdOut(cmd.Context(), g, p, o, ledger.Shard{})
+			if err != nil {
 				return err
 			}
+			defer lock.Release()
 			return runSplit(cmd.Context(), g, o, p)
 		},
 	}
 	cmd.Flags().StringVarP(&o.Out, "out", "o", "", "output root (required)")
+	o.addLockFlag(cmd)
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "summary as JSON lines on stdout")
 	return cmd
 }

@@ -11,6 +11,7 @@ import (
 
 	"thrum/augment"
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/split"
 )
 
@@ -22,6 +23,10 @@ type stageOptions struct {
 	JSON     bool
 	Quiet    bool
 	Encoding string
+	// WaitLock waits for the output root's lock instead of refusing.
+	WaitLock bool
+	// Command is the command line, recorded in the output root's lock.
+	Command string
 }
 
 func (o *stageOptions) addFlags(cmd *cobra.Command) {
@@ -157,10 +162,12 @@ harmonic); they are off unless a recipe sets nonphysical = true, and marked in t
 			if err := o.validate(); err != nil {
 				return err
 			}
+			o.Command = commandLine(cmd, args)
 			return runAugmentStage(cmd.Context(), g, o, args[0], "expand")
 		},
 	}
 	o.addFlags(cmd)
+	o.addLockFlag(cmd)
 	return cmd
 }
 
@@ -179,15 +186,30 @@ frequencies, shaft rate, severity and seed, and can never be placed in eval or t
 			if err := o.validate(); err != nil {
 				return err
 			}
+			o.Command = commandLine(cmd, args)
 			return runAugmentStage(cmd.Context(), g, o, args[0], "faults")
 		},
 	}
 	o.addFlags(cmd)
+	o.addLockFlag(cmd)
 	return cmd
 }
 
 func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath, stage string) error {
-	inv, err := loadPlant(ctx, plantPath, o.Out)
+	p, err := machine.Load(plantPath)
+	if err != nil {
+		return err
+	}
+	sh, err := o.shard()
+	if err != nil {
+		return err
+	}
+	lock, err := holdOut(ctx, g, p, o, ledger.Shard(sh))
+	if err != nil {
+		return err
+	}
+	defer lock.Release()
+	inv, err := machine.Scan(ctx, p, machine.ScanOptions{})
 	if err != nil {
 		return err
 	}
@@ -211,6 +233,9 @@ func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath,
 	}
 	printUndefined(g, stage, sums)
 	printSummaries(g, o.JSON, stage, sums)
+	for _, s := range sums {
+		printStale(g, stage, o.Out, s.Stale)
+	}
 	return nil
 }
 

@@ -114,8 +114,11 @@ func (j *Journal) Close() error { return j.f.Close() }
 // Commit ends a stage in a machine folder. Unsharded, it rewrites the
 // ledger with the stage's section replaced by entries (in their order),
 // keeping the other stages' sections in canonical stage order; sharded, it
-// writes the shard's part for Merge to join later. Either file is written
-// atomically; then the stage's (or shard's) journal is removed.
+// writes the shard's part for Merge to join later, even when entries is
+// empty (a shard with no work of this machine), so Merge never waits for a
+// part that cannot come. Either file is written atomically; an unsharded
+// commit that would leave an empty ledger where there was none writes
+// nothing. Then the stage's (or shard's) journal is removed.
 func Commit(machineDir string, stage Stage, s Shard, entries []Entry) error {
 	if stage.Rank() < 0 {
 		return fmt.Errorf("ledger: %s: commit of unknown stage %q", machineDir, stage)
@@ -145,8 +148,15 @@ func Commit(machineDir string, stage Stage, s Shard, entries []Entry) error {
 			}
 		}
 	}
-	if err := machine.WriteFileAtomic(target, buf.Bytes()); err != nil {
-		return err
+	// A shard writes its part even when empty (Merge then knows the shard
+	// ran); an unsharded commit of nothing into no ledger writes no file.
+	if _, err := os.Stat(target); s.sharded() || buf.Len() > 0 || err == nil {
+		if err := machine.WriteFileAtomic(target, buf.Bytes()); err != nil {
+			return err
+		}
+		if err := machine.RemoveTempsOf(target); err != nil {
+			return err
+		}
 	}
 	if err := os.Remove(filepath.Join(machineDir, JournalName(stage, s))); err != nil && !errors.Is(err, fs.ErrNotExist) {
 		return fmt.Errorf("ledger: %w", err)
