@@ -9,6 +9,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"thrum/machine"
+	"thrum/machine/ledger"
 	"thrum/split"
 )
 

@@ -9,6 +9,7 @@
 //	OUT/<machine-id>/.journal-<stage>.jsonl               lines of a stage still running
 //	OUT/<machine-id>/.journal-<stage>-<i>-of-<n>.jsonl    the same, for shard i of n
 //	OUT/<machine-id>/parts/part-<stage>-<i>-of-<n>.jsonl  the finished section of shard i of n
+//	OUT/.thrum.lock, OUT/.thrum.lock-<i>-of-<n>             the lock of the run writing OUT (LockOut)
 //
 // A stage writes each output file atomically and only then appends its line
 // to the journal (Journal.Append), so a line never names a missing or
@@ -17,6 +18,16 @@
 // sharded run writes its part instead, and Merge later joins all parts of a
 // stage into the ledger. A killed run leaves a journal (perhaps with a torn
 // last line) from which Load lets the next run resume.
+//
+// Every shard writes a part for every machine of the plant, empty when it
+// had no work for it, so Merge never waits for a part that cannot come.
+//
+// # Lock
+//
+// LockOut gives one run at a time an output root: an flock(2) on
+// OUT/.thrum.lock (a shard's on OUT/.thrum.lock-<i>-of-<n>: shards of one
+// run coexist, a run and its join do not), the file naming the holder. A
+// lock whose holder died is taken over; Release removes the file.
 //
 // # Canonical order
 //
