@@ -10,6 +10,7 @@ import (
 	"encoding/hex"
 	"fmt"
 	"math/rand/v2"
+	"os"
 	"path"
 	"path/filepath"
 	"strings"
@@ -57,64 +58,73 @@ func newWorker(st machineSetup, fs float64) (*worker, error) {
 }
 
 func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) fileResult {
-	res := fileResult{row: indexRow{in: in, npy: featurePath(in.Path, ""), env: featurePath(in.Path, ".envelope"), bands: w.st.cfg.Bands}}
+	res := fileResult{row: indexRow{in: in, npy: featurePath(in.Path, ""), env: featurePath(in.Path, ".envelope"), bands: w.st.cfg.Bands,
+		settings: w.st.settings}}
 	fail := func(err error) fileResult {
 		res.err = fmt.Errorf("features: %s: %w", in.Path, err)
 		return res
 	}
-	f, err := wavio.Open(filepath.Join(out, filepath.FromSlash(in.Path)))
-	if err != nil {
-		return fail(err)
+	var feat []float32
+	var frames, rate int
+	if prev != nil && w.reusable(out, in, prev, &res) {
+		feat, frames, rate = res.feat, res.frames, res.row.rate
+	} else {
+		f, err := wavio.Open(filepath.Join(out, filepath.FromSlash(in.Path)))
+		if err != nil {
+			return fail(err)
+		}
+		rate = f.Format().SampleRate
+		res.row.rate = rate
+		fs := float64(rate)
+		x, err := readMono(f, w.x)
+		f.Close()
+		if err != nil {
+			return fail(err)
+		}
+		w.x = x
+		feat, frames = w.lm.Compute(nil, x)
+		res.feat, res.frames = feat, frames
+		res.row.frames = frames
+		res.moments = ClipMoments(Moments{}, feat, frames, w.st.cfg.Bands)
+		res.row.sum = w.sz.Summarize(x, fs)
+		b, sum, err := npyBytes(feat, frames, w.st.cfg.Bands)
+		if err != nil {
+			return fail(err)
+		}
+		res.row.npySHA = sum
+		if err := writeIfChanged(filepath.Join(out, filepath.FromSlash(res.row.npy)), b); err != nil {
+			return fail(err)
+		}
+		// envelope spectrum, the bearing practitioner's view
+		ep := w.env
+		if ep == nil {
+			ep = NewEnvelopePlan(len(x))
+			w.env = ep
+		}
+		ep.Reset(len(x))
+		spec, binHz := ep.Spectrum(w.spec, x, fs, w.st.envLo, w.st.envHi)
+		w.spec = spec
+		keep := int(w.st.envMax/binHz) + 1
+		if keep > len(spec) {
+			keep = len(spec)
+		}
+		e32 := make([]float32, keep)
+		for i := range e32 {
+			e32[i] = float32(spec[i])
+		}
+		res.row.envBinHz = binHz
+		eb, esum, err := npyBytes(e32, keep)
+		if err != nil {
+			return fail(err)
+		}
+		res.row.envSHA = esum
+		if err := writeIfChanged(filepath.Join(out, filepath.FromSlash(res.row.env)), eb); err != nil {
+			return fail(err)
+		}
 	}
-	rate := f.Format().SampleRate
-	fs := float64(rate)
-	x, err := readMono(f, w.x)
-	f.Close()
-	if err != nil {
-		return fail(err)
-	}
-	w.x = x
-	feat, frames := w.lm.Compute(nil, x)
-	res.feat, res.frames = feat, frames
-	res.row.frames = frames
-	res.moments = ClipMoments(Moments{}, feat, frames, w.st.cfg.Bands)
-	res.row.sum = w.sz.Summarize(x, fs)
-	b, sum, err := npyBytes(feat, frames, w.st.cfg.Bands)
-	if err != nil {
-		return fail(err)
-	}
-	res.row.npySHA = sum
-	if prev != nil && prev.npySHA == sum && prev.in.SHA256 == in.SHA256 && fileHash(filepath.Join(out, filepath.FromSlash(res.row.npy))) == sum {
-		res.reused = true
-	} else if err := machine.WriteFileAtomic(filepath.Join(out, filepath.FromSlash(res.row.npy)), b); err != nil {
-		return fail(err)
-	}
-	// envelope spectrum, the bearing practitioner's view
-	ep := w.env
-	if ep == nil {
-		ep = NewEnvelopePlan(len(x))
-		w.env = ep
-	}
-	ep.Reset(len(x))
-	spec, binHz := ep.Spectrum(w.spec, x, fs, w.st.envLo, w.st.envHi)
-	w.spec = spec
-	keep := int(w.st.envMax/binHz) + 1
-	if keep > len(spec) {
-		keep = len(spec)
-	}
-	e32 := make([]float32, keep)
-	for i := range e32 {
-		e32[i] = float32(spec[i])
-	}
-	res.row.envBinHz = binHz
-	eb, _, err := npyBytes(e32, keep)
-	if err != nil {
-		return fail(err)
-	}
-	if err := machine.WriteFileAtomic(filepath.Join(out, filepath.FromSlash(res.row.env)), eb); err != nil {
-		return fail(err)
-	}
-	// masked copies: training clips only, never evaluation features
+	// masked copies: training clips only, never evaluation features. They
+	// are cheap (a copy and a few spans), so a reused clip redraws them and
+	// rewrites only a file whose bytes differ.
 	if in.Split == machine.SplitTrain {
 		for k := 0; k < w.st.copies; k++ {
 			seed := maskSeed(p.Seed, in, k)
@@ -126,9 +136,10 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			if err != nil {
 				return fail(err)
 			}
-			if err := machine.WriteFileAtomic(filepath.Join(out, filepath.FromSlash(mpath)), mb); err != nil {
+			if err := writeIfChanged(filepath.Join(out, filepath.FromSlash(mpath)), mb); err != nil {
 				return fail(err)
 			}
+			res.row.masks = append(res.row.masks, maskRow{path: mpath, sha: msum, rec: rec})
 			params := map[string]float64{"f": float64(w.st.masks.F), "m_f": float64(w.st.masks.MF), "t": float64(w.st.masks.T),
 				"p": w.st.masks.P, "m_t": float64(w.st.masks.MT), "value": float64(rec.Value), "fraction": rec.Fraction}
 			for i, sp := range rec.Freq {
@@ -150,6 +161,47 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 		}
 	}
 	return res
+}
+
+// reusable reports whether the features of a clip from a previous run still
+// hold: same audio hash, same settings hash, and the features and envelope
+// files on disk still hash as recorded. It then fills res from the previous
+// row and the features file (no audio is read, no spectrum computed).
+func (w *worker) reusable(out string, in Input, prev *indexRow, res *fileResult) bool {
+	if prev.in.SHA256 != in.SHA256 || prev.settings != w.st.settings || prev.npy != res.row.npy || prev.env != res.row.env ||
+		prev.npySHA == "" || prev.envSHA == "" {
+		return false
+	}
+	b, err := os.ReadFile(filepath.Join(out, filepath.FromSlash(res.row.npy)))
+	if err != nil {
+		return false
+	}
+	if s := sha256.Sum256(b); hex.EncodeToString(s[:]) != prev.npySHA {
+		return false
+	}
+	if fileHash(filepath.Join(out, filepath.FromSlash(res.row.env))) != prev.envSHA {
+		return false
+	}
+	feat, err := npyFloat32(b, w.st.cfg.Bands)
+	if err != nil {
+		return false
+	}
+	res.feat, res.frames = feat, len(feat)/w.st.cfg.Bands
+	res.moments = ClipMoments(Moments{}, feat, res.frames, w.st.cfg.Bands)
+	res.reused = true
+	res.row.frames = res.frames
+	res.row.npySHA, res.row.envSHA = prev.npySHA, prev.envSHA
+	res.row.envBinHz, res.row.sum, res.row.rate = prev.envBinHz, prev.sum, prev.rate
+	return true
+}
+
+// writeIfChanged writes b to file atomically unless the file already holds
+// exactly b: an unchanged output keeps its inode and modification time.
+func writeIfChanged(file string, b []byte) error {
+	if old, err := os.ReadFile(file); err == nil && bytes.Equal(old, b) {
+		return nil
+	}
+	return machine.WriteFileAtomic(file, b)
 }
 
 func npyBytes(data []float32, shape ...int) ([]byte, string, error) {

@@ -41,12 +41,23 @@
 // # Log-mel and the dB reference
 //
 // LogDB (default): L = 10·log10(max(P_mel·4/(Σw)², Floor)) dB, Floor
-// default 1e-10 (−100 dB). The factor 4/(Σw)² = 16/N² is the full-scale
-// reference: a sine of amplitude A centred on a bin has |X[k]| = A·Σw/2, so
-// a full-scale sine (A = 1) at the peak of a unit-peak band reads 0 dB and
-// A = 0.1 reads −20 dB (dB re a full-scale sine). With Config.Magnitude the
-// value is 20·log10(max(M_mel·2/Σw, √Floor)). LogNone returns the same
-// normalised mel value without the log.
+// default 1e-10 (−100 dB). The factor 4/(Σw)² = 16/N² is the reference:
+// the power |X[k]|² = (A·Σw/2)² of the bin on which a sine of amplitude
+// A = 1 (full scale), centred on that bin, falls. A band sums the weighted
+// power of all its bins, and the Hann main lobe puts a quarter of the
+// centre bin's power in each neighbouring bin (|X[k±1]| = |X[k]|/2), so a
+// full-scale sine centred on bin k of a band reads
+// 10·log10(W(k) + (W(k−1) + W(k+1))/4) dB, W the band's weights: about
+// 0 dB in a band one bin wide, rising towards 10·log10(1.5) = +1.76 dB
+// (the window's equivalent noise bandwidth, 1.5 bins) in a band many bins
+// wide. With the defaults at 16 kHz (n_fft 1024, 128 HTK bands) a
+// full-scale sine at 5421.875 Hz, on the peak of band 110 (15 bins wide),
+// reads +1.54 dB, one at 1796.875 Hz (band 64) +0.94 dB
+// (TestLogMelFullScaleReference). Levels scale as usual: A = 0.1 reads
+// 20 dB lower. The unit is therefore "dB re the bin power of a full-scale
+// sine", not dBFS of the band. With Config.Magnitude the value is
+// 20·log10(max(M_mel·2/Σw, √Floor)), the same reference in magnitude.
+// LogNone returns the same normalised mel value without the log.
 //
 // LogNumpy: log10(P_mel + 1e-10) on the raw unnormalised power, no ×10 and
 // no reference. It reproduces the common numpy recipe (periodic Hann, rfft,

@@ -14,8 +14,9 @@ type LogMel struct {
 	fb   *Filterbank
 	spec []float64
 	mel  []float64
-	// ref scales the mel value so that a full-scale sine at a band's peak
-	// gives 1 (LogDB, LogNone); 1 in LogNumpy mode.
+	// ref scales the mel value by the power of the bin a full-scale
+	// bin-centred sine falls on (LogDB, LogNone; see the package doc for
+	// what a band then reads); 1 in LogNumpy mode.
 	ref float64
 }
 

@@ -4,6 +4,7 @@
 package features
 
 import (
+	"fmt"
 	"math"
 	"os"
 	"path"
@@ -26,10 +27,24 @@ func faultRank(p string) int {
 	return 9
 }
 
+// pictureTitle names a picture's clip: machine, condition and origin (with
+// the fault kind or the speed change), then the file.
+func pictureTitle(in Input) string {
+	what := string(in.Origin)
+	switch {
+	case in.FaultKind != "":
+		what += " " + in.FaultKind
+	case in.Speed != 0 && in.Speed != 1:
+		what += fmt.Sprintf(", speed ×%.3f", in.Speed)
+	}
+	return fmt.Sprintf("%s · %s · %s\n%s", in.Machine, in.Condition, what, path.Base(in.Path))
+}
+
 // pictures draws, for one machine, a recorded clip next to one of its
 // augmented variants, and the envelope spectrum of a fault cue with its
-// defect lines marked.
-func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input, all []fileResult, idx []int, kept map[string]bool) error {
+// defect lines marked. When every clip of the machine was reused (reused)
+// and the pictures are on disk, they are kept as they are.
+func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input, all []fileResult, idx []int, kept map[string]bool, reused bool) error {
 	lm, err := NewLogMel(st.cfg, float64(p.SampleRate))
 	if err != nil {
 		return err
@@ -54,13 +69,34 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 		}
 	}
 	dir := filepath.Join(out, Dir, PicturesDir)
+	if reused {
+		var want []string
+		if rec >= 0 {
+			want = append(want, id+"-spectrogram.png")
+		}
+		if flt >= 0 {
+			want = append(want, id+"-envelope-"+inputs[flt].FaultKind+".png")
+		}
+		ok := true
+		for _, f := range want {
+			if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+				ok = false
+			}
+		}
+		if ok {
+			for _, f := range want {
+				kept[path.Join(Dir, PicturesDir, f)] = true
+			}
+			return nil
+		}
+	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
 	if rec >= 0 {
-		panels := []Panel{lm.Panel("recorded: "+path.Base(inputs[rec].Path), all[rec].feat, all[rec].frames)}
+		panels := []Panel{lm.Panel(pictureTitle(inputs[rec]), all[rec].feat, all[rec].frames)}
 		if aug >= 0 {
-			panels = append(panels, lm.Panel("augmented: "+path.Base(inputs[aug].Path), all[aug].feat, all[aug].frames))
+			panels = append(panels, lm.Panel(pictureTitle(inputs[aug]), all[aug].feat, all[aug].frames))
 		}
 		if err := SpectrogramPNG(filepath.Join(dir, id+"-spectrogram.png"), panels); err != nil {
 			return err
@@ -97,7 +133,7 @@ func pictures(p *machine.Plant, out, id string, st machineSetup, inputs []Input,
 				keep = len(spec)
 			}
 			if len(lines) > 0 {
-				if err := EnvelopePNG(filepath.Join(dir, id+"-envelope-"+e.Fault.Kind+".png"), spec[:keep], binHz, lines); err != nil {
+				if err := EnvelopePNG(filepath.Join(dir, id+"-envelope-"+e.Fault.Kind+".png"), pictureTitle(inputs[flt])+" · envelope spectrum", spec[:keep], binHz, lines); err != nil {
 					return err
 				}
 				kept[path.Join(Dir, PicturesDir, id+"-envelope-"+e.Fault.Kind+".png")] = true

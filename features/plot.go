@@ -9,14 +9,11 @@ import (
 	"strconv"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/palette/moreland"
+	"gonum.org/v1/plot/palette"
 	"gonum.org/v1/plot/plotter"
-	"gonum.org/v1/plot/plotutil"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
-
-	"thrum/machine"
 )
 
 // DynamicRangeDB is the colour range of SpectrogramPNG below the loudest
@@ -59,20 +56,124 @@ func (g panelGrid) Z(c, r int) float64 { return float64(g.p.Data[c*g.p.Rows+r]) 
 func (g panelGrid) X(c int) float64    { return float64(c) * g.p.FrameSeconds }
 func (g panelGrid) Y(r int) float64    { return g.y0 + float64(r)*g.step }
 
-// hzTicks labels a mel-spaced axis with round frequencies in Hz.
-type hzTicks struct{ toMel, toHz func(float64) float64 }
+// bandTicks labels a mel-spaced axis at band centres: a labelled tick at
+// every step-th band's centre frequency (in Hz or kHz), and an unlabelled
+// one at each band between.
+type bandTicks struct {
+	g    panelGrid
+	toHz func(float64) float64
+}
 
-func (t hzTicks) Ticks(lo, hi float64) []plot.Tick {
+func (t bandTicks) Ticks(lo, hi float64) []plot.Tick {
+	rows := t.g.p.Rows
+	step := max(1, rows/8)
 	var ticks []plot.Tick
-	for _, f := range []float64{0, 100, 200, 500, 1000, 2000, 4000, 8000, 16000, 24000, 48000} {
-		m := t.toMel(f)
-		if m < lo || m > hi {
+	for r := 0; r < rows; r++ {
+		y := t.g.Y(r)
+		if y < lo || y > hi {
 			continue
 		}
-		ticks = append(ticks, plot.Tick{Value: m, Label: strconv.FormatFloat(f, 'f', -1, 64)})
+		tk := plot.Tick{Value: y}
+		if r%step == 0 || r == rows-1 && step > 1 && (rows-1)%step >= step/2 {
+			tk.Label = hzLabel(t.toHz(y))
+		}
+		ticks = append(ticks, tk)
 	}
 	return ticks
 }
+
+// hzTicks labels a linear frequency axis in Hz or kHz.
+type hzTicks struct{}
+
+func (hzTicks) Ticks(lo, hi float64) []plot.Tick {
+	ticks := plot.DefaultTicks{}.Ticks(lo, hi)
+	for i := range ticks {
+		if ticks[i].Label != "" {
+			ticks[i].Label = hzLabel(ticks[i].Value)
+		}
+	}
+	return ticks
+}
+
+// hzLabel writes a frequency with three significant digits, in kHz from
+// 1 kHz up: "62.5 Hz", "1.25 kHz".
+func hzLabel(f float64) string {
+	if math.Abs(f) >= 1000 {
+		return strconv.FormatFloat(roundSig(f/1000, 3), 'f', -1, 64) + " kHz"
+	}
+	return strconv.FormatFloat(roundSig(f, 3), 'f', -1, 64) + " Hz"
+}
+
+func roundSig(x float64, n int) float64 {
+	if x == 0 {
+		return 0
+	}
+	p := math.Pow(10, float64(n)-math.Ceil(math.Log10(math.Abs(x))))
+	return math.Round(x*p) / p
+}
+
+// Ramp is thrum's colour scheme for spectrograms: a ramp from night blue
+// through steel blue and bronze to amber and a warm white, interpolated
+// linearly in sRGB between its stops. It implements palette.ColorMap.
+type Ramp struct {
+	min, max, alpha float64
+}
+
+// rampStops are the colours of Ramp at 0, 0.3, 0.58, 0.8 and 1.
+var rampStops = []struct {
+	at      float64
+	r, g, b float64
+}{
+	{0, 8, 16, 40},
+	{0.3, 30, 66, 128},
+	{0.58, 168, 106, 44},
+	{0.8, 246, 178, 38},
+	{1, 255, 249, 232},
+}
+
+// NewRamp returns the ramp over [min, max].
+func NewRamp(min, max float64) *Ramp { return &Ramp{min: min, max: max, alpha: 1} }
+
+// At returns the colour of v, an error outside [Min, Max].
+func (m *Ramp) At(v float64) (color.Color, error) {
+	if !(v >= m.min && v <= m.max) || !(m.max > m.min) {
+		return color.Black, fmt.Errorf("features: colour of %v outside %v..%v", v, m.min, m.max)
+	}
+	return m.at((v - m.min) / (m.max - m.min)), nil
+}
+
+func (m *Ramp) at(u float64) color.Color {
+	i := 1
+	for i < len(rampStops)-1 && u > rampStops[i].at {
+		i++
+	}
+	a, b := rampStops[i-1], rampStops[i]
+	w := (u - a.at) / (b.at - a.at)
+	c := func(x, y float64) uint8 { return uint8(math.Round(m.alpha * (x + w*(y-x)))) }
+	return color.NRGBA{R: c(a.r, b.r), G: c(a.g, b.g), B: c(a.b, b.b), A: uint8(math.Round(255 * m.alpha))}
+}
+
+func (m *Ramp) Max() float64       { return m.max }
+func (m *Ramp) SetMax(v float64)   { m.max = v }
+func (m *Ramp) Min() float64       { return m.min }
+func (m *Ramp) SetMin(v float64)   { m.min = v }
+func (m *Ramp) Alpha() float64     { return m.alpha }
+func (m *Ramp) SetAlpha(a float64) { m.alpha = math.Min(1, math.Max(0, a)) }
+func (m *Ramp) Palette(n int) palette.Palette {
+	cs := make([]color.Color, n)
+	for i := range cs {
+		u := 0.0
+		if n > 1 {
+			u = float64(i) / float64(n-1)
+		}
+		cs[i] = m.at(u)
+	}
+	return rampPalette(cs)
+}
+
+type rampPalette []color.Color
+
+func (p rampPalette) Colors() []color.Color { return p }
 
 func (p Panel) check() error {
 	switch {
@@ -112,9 +213,7 @@ func SpectrogramPNG(path string, panels []Panel) error {
 	if math.IsInf(top, -1) {
 		return fmt.Errorf("features: spectrogram: no finite values")
 	}
-	cmap := moreland.ExtendedBlackBody()
-	cmap.SetMax(top)
-	cmap.SetMin(top - DynamicRangeDB)
+	cmap := NewRamp(top-DynamicRangeDB, top)
 	pal := cmap.Palette(256)
 
 	const panelW, barW, height = 5 * vg.Inch, 1.1 * vg.Inch, 3.6 * vg.Inch
@@ -125,19 +224,21 @@ func SpectrogramPNG(path string, panels []Panel) error {
 		plt := plot.New()
 		plt.Title.Text = p.Title
 		plt.X.Label.Text = "time (s)"
-		plt.Y.Label.Text = "frequency (Hz)"
+		plt.Y.Label.Text = "frequency"
 		g := panelGrid{p: p}
 		if p.Scale == "" {
 			g.y0 = p.FMin
 			if p.Rows > 1 {
 				g.step = (p.FMax - p.FMin) / float64(p.Rows-1)
 			}
+			plt.Y.Tick.Marker = hzTicks{}
 		} else {
 			toMel, toHz, _ := MelFuncs(p.Scale)
 			mlo, mhi := toMel(p.FMin), toMel(p.FMax)
 			g.step = (mhi - mlo) / float64(p.Rows+1)
 			g.y0 = mlo + g.step
-			plt.Y.Tick.Marker = hzTicks{toMel, toHz}
+			plt.Y.Tick.Marker = bandTicks{g, toHz}
+			plt.Y.Label.Text = "mel band centre"
 		}
 		hm := plotter.NewHeatMap(g, pal)
 		hm.Rasterized = true
@@ -149,7 +250,7 @@ func SpectrogramPNG(path string, panels []Panel) error {
 		plt.Draw(c)
 	}
 	bar := plot.New()
-	bar.Title.Text = "dB"
+	bar.Title.Text = "dB re full-\nscale bin"
 	bar.HideX()
 	bar.Add(&plotter.ColorBar{ColorMap: cmap, Vertical: true})
 	bar.Draw(draw.Crop(dc, width-barW+0.2*vg.Inch, -0.2*vg.Inch, 0, 0))
@@ -161,14 +262,18 @@ func savePNG(path string, img *vgimg.Canvas) error {
 	if _, err := (vgimg.PngCanvas{Canvas: img}).WriteTo(&buf); err != nil {
 		return fmt.Errorf("features: png: %w", err)
 	}
-	return machine.WriteFileAtomic(path, buf.Bytes())
+	return writeIfChanged(path, buf.Bytes())
 }
 
-// EnvelopePNG plots an envelope spectrum (bin k at k·binHz) and marks each
-// named defect line (BPFO, BPFI, ...) with a dashed vertical line, then
-// writes a PNG to path atomically. The axis spans 0 to the smaller of the
-// full range and 4× the highest line, so a few harmonics show.
-func EnvelopePNG(path string, spec []float64, binHz float64, lines map[string]float64) error {
+// EnvelopePNG plots an envelope spectrum (bin k at k·binHz, amplitude in
+// full-scale units: a sinusoid of amplitude a in the envelope reads a) under
+// title, marks each named defect line (BPFO, BPFI, ...) with a dashed
+// vertical line and the harmonics of the highest with markers above it, then writes a
+// PNG to path atomically. The axis spans 0 to the smaller of the full range
+// and 4.5× the highest line, so four harmonics of it show, none on the edge;
+// every line and marker drawn lies inside the plotted range, and a line
+// beyond it is named in the legend as such.
+func EnvelopePNG(path, title string, spec []float64, binHz float64, lines map[string]float64) error {
 	if len(spec) < 2 || !(binHz > 0) {
 		return fmt.Errorf("features: envelope plot: %d bins of %v Hz", len(spec), binHz)
 	}
@@ -184,9 +289,9 @@ func EnvelopePNG(path string, spec []float64, binHz float64, lines map[string]fl
 	}
 	sort.Strings(names)
 	if hi > 0 {
-		xmax = math.Min(xmax, 4*hi)
+		xmax = math.Min(xmax, 4.5*hi)
 	}
-	kmax := min(len(spec)-1, int(math.Ceil(xmax/binHz)))
+	kmax := min(len(spec)-1, int(math.Floor(xmax/binHz)))
 	// At most maxPoints points: each keeps the largest bin of its run, so no
 	// line is lost, and the rasteriser does not draw thousands of segments
 	// per pixel column.
@@ -210,33 +315,67 @@ func EnvelopePNG(path string, spec []float64, binHz float64, lines map[string]fl
 		ymax = 1
 	}
 	plt := plot.New()
-	plt.Title.Text = "envelope spectrum"
-	plt.X.Label.Text = "frequency (Hz)"
-	plt.Y.Label.Text = "amplitude"
+	plt.Title.Text = title
+	plt.X.Label.Text = "envelope frequency"
+	plt.X.Tick.Marker = hzTicks{}
+	plt.Y.Label.Text = "envelope amplitude (full scale = 1)"
 	plt.X.Min, plt.X.Max = 0, xmax
-	plt.Y.Min, plt.Y.Max = 0, 1.1*ymax
+	plt.Y.Min, plt.Y.Max = 0, 1.45*ymax // the top for the legend
 	ln, err := plotter.NewLine(pts)
 	if err != nil {
 		return fmt.Errorf("features: envelope plot: %w", err)
 	}
-	ln.Color = color.Black
+	ln.Color = color.NRGBA{R: 20, G: 34, B: 70, A: 255}
 	plt.Add(ln)
 	for i, n := range names {
 		f := lines[n]
+		c := lineColours[i%len(lineColours)]
 		if f > xmax {
+			// no line outside the plotted range: the legend says where it is
+			v, _ := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}})
+			v.Color = c
+			plt.Legend.Add(fmt.Sprintf("%s %s (beyond the range)", n, hzLabel(f)), v)
 			continue
 		}
-		v, err := plotter.NewLine(plotter.XYs{{X: f, Y: 0}, {X: f, Y: 1.1 * ymax}})
+		v, err := plotter.NewLine(plotter.XYs{{X: f, Y: 0}, {X: f, Y: 1.05 * ymax}})
 		if err != nil {
 			return fmt.Errorf("features: envelope plot: %w", err)
 		}
-		v.Color = plotutil.Color(i)
+		v.Color = c
 		v.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
 		plt.Add(v)
-		plt.Legend.Add(fmt.Sprintf("%s %.2f Hz", n, f), v)
+		var harm plotter.XYs
+		for k := 2; f == hi && float64(k)*f <= xmax; k++ {
+			harm = append(harm, plotter.XY{X: float64(k) * f, Y: 1.08 * ymax})
+		}
+		label := fmt.Sprintf("%s %s", n, hzLabel(f))
+		if len(harm) > 0 {
+			sc, err := plotter.NewScatter(harm)
+			if err != nil {
+				return fmt.Errorf("features: envelope plot: %w", err)
+			}
+			sc.Color = c
+			sc.Shape = draw.PyramidGlyph{}
+			sc.Radius = vg.Points(3)
+			plt.Add(sc)
+			label += fmt.Sprintf(" (▲ harmonics 2×–%d×)", len(harm)+1)
+			plt.Legend.Add(label, v, sc)
+		} else {
+			plt.Legend.Add(label, v)
+		}
 	}
 	plt.Legend.Top = true
 	img := vgimg.New(8*vg.Inch, 4*vg.Inch)
 	plt.Draw(draw.New(img))
 	return savePNG(path, img)
+}
+
+// lineColours mark defect lines: colours of the ramp's warm end and two
+// that stand apart from it and from the dark trace.
+var lineColours = []color.Color{
+	color.NRGBA{R: 214, G: 120, B: 20, A: 255},
+	color.NRGBA{R: 40, G: 140, B: 150, A: 255},
+	color.NRGBA{R: 170, G: 50, B: 90, A: 255},
+	color.NRGBA{R: 110, G: 110, B: 30, A: 255},
+	color.NRGBA{R: 90, G: 90, B: 170, A: 255},
 }

@@ -84,11 +84,11 @@ func TestEnvelopePNG(t *testing.T) {
 	}
 	path := filepath.Join(t.TempDir(), "env.png")
 	lines := map[string]float64{"bpfo": 107.36, "bpfi": 162.19, "ftf": 11.93}
-	if err := EnvelopePNG(path, spec, binHz, lines); err != nil {
+	if err := EnvelopePNG(path, "test", spec, binHz, lines); err != nil {
 		t.Fatal(err)
 	}
 	checkPNG(t, path)
-	if err := EnvelopePNG(path, spec, binHz, map[string]float64{"x": -1}); err == nil {
+	if err := EnvelopePNG(path, "test", spec, binHz, map[string]float64{"x": -1}); err == nil {
 		t.Error("negative line accepted")
 	}
 }

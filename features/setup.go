@@ -3,6 +3,8 @@
 package features
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
 	"math"
 
@@ -20,7 +22,17 @@ type machineSetup struct {
 	stack    bool
 	pictures bool
 	lines    map[string]float64
+	// settings is the hash of everything above that shapes a clip's
+	// feature files, with the sample rate, the plant seed (mask draws) and
+	// FormatVersion: a rerun skips a clip whose audio hash and settings
+	// hash are both unchanged.
+	settings string
 }
+
+// FormatVersion is raised whenever the features stage computes or writes a
+// clip's files differently, so that a rerun recomputes features written by
+// an earlier thrum instead of reusing them.
+const FormatVersion = 2
 
 func setupFor(p *machine.Plant, m *machine.Machine) (machineSetup, error) {
 	fc := p.FeaturesFor(m)
@@ -73,5 +85,9 @@ func setupFor(p *machine.Plant, m *machine.Machine) (machineSetup, error) {
 	}
 	s.stack = fc.Stack != nil && *fc.Stack
 	s.pictures = fc.Pictures == nil || *fc.Pictures
+	h := sha256.New()
+	fmt.Fprintf(h, "features %d\x00fs %d\x00seed %d\x00%+v\x00envelope %v %v %v\x00masks %+v copies %d",
+		FormatVersion, p.SampleRate, p.Seed, s.cfg, s.envLo, s.envHi, s.envMax, s.masks, s.copies)
+	s.settings = hex.EncodeToString(h.Sum(nil))
 	return s, nil
 }

@@ -55,6 +55,12 @@ func readNPY32(path string, cols int) ([]float32, error) {
 	if err != nil {
 		return nil, err
 	}
+	return npyFloat32(b, cols)
+}
+
+// npyFloat32 decodes the bytes of a little-endian float32 .npy file written
+// by WriteNPY whose last dimension is cols.
+func npyFloat32(b []byte, cols int) ([]float32, error) {
 	if len(b) < 10 || string(b[1:6]) != "NUMPY" {
 		return nil, fmt.Errorf("not a .npy file")
 	}

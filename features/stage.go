@@ -32,6 +32,10 @@ type Input struct {
 	Label                       machine.Label
 	Source, SourceSHA256, Group string
 	Clip                        int
+	// FaultKind is the kind of a synthetic fault cue ("" otherwise); Speed
+	// the total speed ratio applied to the clip (1 when none).
+	FaultKind string
+	Speed     float64
 }
 
 // StageOptions configure the features stage. Out is required.
@@ -169,6 +173,7 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 		st := setups[id]
 		acc := NewAccumulator(st.cfg.Bands)
 		var masked []ledger.Entry
+		reused := true // every clip of the machine reused: pictures too
 		for _, i := range byMachine[id] {
 			r := all[i]
 			s.Files++
@@ -177,6 +182,7 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 			}
 			masked = append(masked, r.masked...)
 			keep[r.row.npy], keep[r.row.env] = true, true
+			reused = reused && r.reused
 			for _, e := range r.masked {
 				keep[e.Path] = true
 			}
@@ -193,7 +199,7 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 		if err := stats.WriteJSON(&buf); err != nil {
 			return nil, err
 		}
-		if err := machine.WriteFileAtomic(filepath.Join(out, Dir, id, StatsFile), buf.Bytes()); err != nil {
+		if err := writeIfChanged(filepath.Join(out, Dir, id, StatsFile), buf.Bytes()); err != nil {
 			return nil, err
 		}
 		if err := ledger.Commit(filepath.Join(out, id), ledger.Features, ledger.Shard{}, masked); err != nil {
@@ -205,13 +211,17 @@ func finishStage(p *machine.Plant, out string, inputs []Input, all []fileResult,
 			}
 		}
 		if st.pictures {
-			if err := pictures(p, out, id, st, inputs, all, byMachine[id], keep); err != nil {
+			if err := pictures(p, out, id, st, inputs, all, byMachine[id], keep, reused); err != nil {
 				return nil, err
 			}
 		}
 		sums = append(sums, s)
 	}
-	if err := writeIndex(filepath.Join(out, Dir, IndexFile), all); err != nil {
+	index, err := indexBytes(all)
+	if err != nil {
+		return nil, fmt.Errorf("features: index: %w", err)
+	}
+	if err := writeIfChanged(filepath.Join(out, Dir, IndexFile), index); err != nil {
 		return nil, err
 	}
 	// machines of the plant with no input this time: their features

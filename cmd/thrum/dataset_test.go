@@ -1,0 +1,203 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"io/fs"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"thrum/features"
+	"thrum/machine"
+)
+
+// fileStamp is what a rewrite changes even when the bytes stay the same.
+type fileStamp struct {
+	ino   uint64
+	mtime time.Time
+	size  int64
+}
+
+func stamps(t *testing.T, root string) map[string]fileStamp {
+	t.Helper()
+	out := map[string]fileStamp{}
+	err := filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
+		if err != nil || d.IsDir() {
+			return err
+		}
+		fi, err := d.Info()
+		if err != nil {
+			return err
+		}
+		st := fileStamp{mtime: fi.ModTime(), size: fi.Size()}
+		if s, ok := fi.Sys().(*syscall.Stat_t); ok {
+			st.ino = s.Ino
+		}
+		rel, _ := filepath.Rel(root, p)
+		out[filepath.ToSlash(rel)] = st
+		return nil
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return out
+}
+
+// TestFeaturesIndexRerunAndLoader runs the demo plant, then checks the
+// features index (one row per log-mel file, masked copies included, one
+// shape per machine, the use column), that a features rerun with the audio
+// moved away succeeds without reading audio or rewriting any file, and
+// that README's Python loader runs on the output.
+func TestFeaturesIndexRerunAndLoader(t *testing.T) {
+	plant := demo(t)
+	out := filepath.Join(filepath.Dir(plant), "out")
+	if stdout, stderr, code := cli(t, "run", plant, "--out", out, "-q"); code != exitOK {
+		t.Fatalf("run exit %d\nstdout:\n%s\nstderr:\n%s", code, stdout, stderr)
+	}
+	p, err := machine.Load(plant)
+	if err != nil {
+		t.Fatal(err)
+	}
+
+	// the index names every log-mel file once, masked copies with their record
+	f, err := os.Open(filepath.Join(out, "features", "index.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	recs, err := csv.NewReader(f).ReadAll()
+	f.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	col := map[string]int{}
+	for i, h := range recs[0] {
+		col[h] = i
+	}
+	indexed := map[string]bool{}
+	shape := map[string]string{}
+	uses := map[string]int{}
+	for _, r := range recs[1:] {
+		g := func(k string) string { return r[col[k]] }
+		if indexed[g("path")] {
+			t.Errorf("%s twice in the index", g("path"))
+		}
+		indexed[g("path")] = true
+		uses[g("use")]++
+		if sh := g("frames") + "x" + g("bands"); shape[g("machine")] == "" {
+			shape[g("machine")] = sh
+		} else if shape[g("machine")] != sh {
+			t.Errorf("%s: shape %s, other files of %s %s", g("path"), sh, g("machine"), shape[g("machine")])
+		}
+		want := features.UseOf(machine.Split(g("split")), machine.Origin(g("origin")), machine.Label(g("label")))
+		if g("use") != want {
+			t.Errorf("%s: use %q, want %q", g("path"), g("use"), want)
+		}
+		if g("use") == features.UseTrainNormal && (g("label") != "normal" || g("origin") == string(machine.OriginSyntheticFault)) {
+			t.Errorf("%s: train-normal but %s %s", g("path"), g("label"), g("origin"))
+		}
+		if (g("origin") == string(machine.OriginSyntheticFault)) != (g("fault_kind") != "") {
+			t.Errorf("%s: origin %s, fault kind %q", g("path"), g("origin"), g("fault_kind"))
+		}
+		if g("mask_of") != "" {
+			var rec features.MaskRecord
+			if err := json.Unmarshal([]byte(g("mask")), &rec); err != nil || !indexed[g("mask_of")] {
+				t.Errorf("%s: mask of %q (indexed before it: %v), record %q: %v", g("path"), g("mask_of"), indexed[g("mask_of")], g("mask"), err)
+			}
+		}
+		for _, k := range []string{"group", "source", "condition", "speed", "settings_sha256"} {
+			if g(k) == "" {
+				t.Errorf("%s: no %s", g("path"), k)
+			}
+		}
+	}
+	for _, u := range []string{features.UseTrainNormal, features.UseSyntheticAnomaly, features.UseEval, features.UseTest} {
+		if uses[u] == 0 {
+			t.Errorf("no file of use %s in the demo (uses %v)", u, uses)
+		}
+	}
+	logmel := regexp.MustCompile(`^features/.*/.*-c\d{4}[^.]*(\.mask\d\d)?\.npy$`)
+	masked := 0
+	filepath.WalkDir(filepath.Join(out, "features"), func(q string, d fs.DirEntry, err error) error {
+		rel, _ := filepath.Rel(out, q)
+		rel = filepath.ToSlash(rel)
+		if err == nil && !d.IsDir() && logmel.MatchString(rel) {
+			if !indexed[rel] {
+				t.Errorf("%s is not in the index", rel)
+			}
+			if strings.Contains(rel, ".mask") {
+				masked++
+			}
+		}
+		return nil
+	})
+	if masked == 0 {
+		t.Error("no masked copy on disk")
+	}
+
+	// a rerun with every audio file moved away: nothing is read or rewritten
+	before, beforeSum := stamps(t, filepath.Join(out, "features")), tree(t, filepath.Join(out, "features"))
+	var moved []string
+	for _, m := range p.Machines {
+		filepath.WalkDir(filepath.Join(out, m.ID), func(q string, d fs.DirEntry, err error) error {
+			if err == nil && strings.HasSuffix(q, ".wav") {
+				if os.Rename(q, q+".away") == nil {
+					moved = append(moved, q)
+				}
+			}
+			return nil
+		})
+	}
+	stdout, stderr, code := cli(t, "features", plant, "--out", out, "-q")
+	for _, q := range moved {
+		os.Rename(q+".away", q)
+	}
+	if code != exitOK {
+		t.Fatalf("features rerun without audio: exit %d\n%s\n%s", code, stdout, stderr)
+	}
+	if len(moved) == 0 || strings.Contains(stdout, "reused     0") {
+		t.Errorf("moved %d audio files; rerun:\n%s", len(moved), stdout)
+	}
+	after := stamps(t, filepath.Join(out, "features"))
+	for k, st := range before {
+		if after[k] != st {
+			t.Errorf("rerun rewrote %s (%+v → %+v)", k, st, after[k])
+		}
+	}
+	diffTrees(t, beforeSum, tree(t, filepath.Join(out, "features")), "features rerun")
+
+	// README's loader, then np.stack of every split of every machine
+	const python = "/usr/bin/python3"
+	if err := exec.Command(python, "-c", "import numpy").Run(); err != nil {
+		t.Skip("numpy not available:", err)
+	}
+	readme, err := os.ReadFile(filepath.Join("..", "..", "README.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := regexp.MustCompile("(?s)<!-- loader:[^>]*-->\n```python\n(.*?)```").FindSubmatch(readme)
+	if m == nil {
+		t.Fatal("README has no loader block")
+	}
+	for _, mc := range p.Machines {
+		src := strings.Replace(string(m[1]), `OUT, MACHINE = "OUT", "pump-p1"`, "import sys\nOUT, MACHINE = sys.argv[1], sys.argv[2]", 1)
+		src += `
+assert all(r["use"] == "train-normal" and r["label"] == "normal" and r["origin"] != "synthetic-fault" for r in train)
+assert X.ndim == 3 and X.shape[0] == len(train) and np.isfinite(X).all(), X.shape
+assert len(masks) == sum(1 for r in train if r["mask_of"]) > 0
+for sp in ("train", "eval", "test"):
+    S = np.stack([np.load(f"{OUT}/{r['path']}") for r in rows if r["split"] == sp])
+    print(MACHINE, sp, S.shape)
+`
+		b, err := exec.Command(python, "-c", src, out, mc.ID).CombinedOutput()
+		if err != nil {
+			t.Errorf("loader on %s: %v\n%s", mc.ID, err, b)
+		}
+		t.Logf("%s", b)
+	}
+}
