@@ -84,7 +84,7 @@ func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st s
 	ent.Origin = machine.OriginAugmented
 	ent.Variant = v
 	ent.Seed = seed
-	ent.Draw = drawHash(records(drawn))
+	ent.Draw = drawHash(spanMarked(records(drawn), SpeedOf(drawn)))
 	ent.Path = fmt.Sprintf("%s/%s/augmented/%s-c%04d-v%02d.wav", r.Machine, r.Condition, st, c.Index, v)
 	return ent, nil
 }
@@ -105,10 +105,27 @@ func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Cli
 	if err != nil {
 		return nil, ent, err
 	}
-	y, applied, reason := e.apply(ws, x, drawn, j.c)
-	ent.Steps = applied
 	ent.Speed = SpeedOf(drawn)
 	ent.Backgrounds = BackgroundsOf(drawn)
+	speedDone := false
+	if ent.Speed != 1 {
+		// one clip length after the change: read the source span it needs
+		xs, sp, ok, err := e.speedSource(ws, j.rec, c, ent.Speed)
+		if err != nil {
+			return nil, ent, err
+		}
+		if !ok {
+			ent.Steps = records(drawn)
+			ent.Kind = ledger.KindRejected
+			ent.Reason = RejectNoRoomForSpeed
+			ent.Path = ""
+			return nil, ent, nil
+		}
+		x, speedDone = xs, true
+		ent.ClipStart, ent.ClipFrames = sp.Start, sp.Frames
+	}
+	y, applied, reason := e.apply(ws, x, drawn, j.c, speedDone)
+	ent.Steps = applied
 	if reason != "" {
 		ent.Kind = ledger.KindRejected
 		ent.Reason = reason

@@ -104,7 +104,7 @@ func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (ledg
 	ent.Steps = steps
 	ent.Fault = &ledger.FaultRecord{Kind: kind, Frequencies: label.Frequencies, ShaftHz: label.ShaftHz,
 		SeverityDB: d.sev, ResonanceHz: label.ResonanceHz, Seed: seed}
-	ent.Draw = drawHash(append(steps, ledger.StepRecord{Kind: kind, Params: map[string]float64{"severity_db": d.sev, "resonance_hz": d.resHz}}))
+	ent.Draw = drawHash(spanMarked(append(steps, ledger.StepRecord{Kind: kind, Params: map[string]float64{"severity_db": d.sev, "resonance_hz": d.resHz}}), d.ratio))
 	ent.Path = fmt.Sprintf("%s/%s/faults/%s-c%04d-%s-%02d.wav", r.Machine, r.Condition, st, c.Index, kind, k)
 	return ent, d, nil
 }
@@ -115,7 +115,24 @@ func (e *env) faultRender(j job, c machine.Clip, x []float64, ki, k int, kind, s
 	if err != nil {
 		return nil, ent, err
 	}
-	y := Speed{Ratio: d.ratio, Plans: e.plans}.Apply(nil, x, e.fs)
+	var y []float64
+	if d.ratio != 1 {
+		// one clip length after the change: read the source span it needs
+		xs, sp, ok, err := e.speedSource(&workspace{}, j.rec, c, d.ratio)
+		if err != nil {
+			return nil, ent, err
+		}
+		if !ok {
+			ent.Kind = ledger.KindRejected
+			ent.Reason = RejectNoRoomForSpeed
+			ent.Path = ""
+			return nil, ent, nil
+		}
+		y = append([]float64(nil), xs...)
+		ent.ClipStart, ent.ClipFrames = sp.Start, sp.Frames
+	} else {
+		y = Speed{Ratio: d.ratio, Plans: e.plans}.Apply(nil, x, e.fs)
+	}
 	y, _, err = fault.Add(y, y, e.fs, d.cue, d.rng)
 	if err != nil {
 		ent.Kind = ledger.KindRejected

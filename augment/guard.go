@@ -37,6 +37,9 @@ const (
 // workspace holds a worker's reusable buffers.
 type workspace struct {
 	a, b []float64
+	// src and spd hold a speed variant's source span and its resampled
+	// samples (speedSource).
+	src, spd []float64
 }
 
 // apply runs the drawn steps in order on a copy of x and checks the result
@@ -44,13 +47,16 @@ type workspace struct {
 // with values measured while applying (re-measured SNR, RT60, gains), and a
 // rejection reason ("" when the variant is credible; when several steps
 // fail, the last one's).
-func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condition) ([]float64, []ledger.StepRecord, string) {
+//
+// With speedDone, x already carries the drawn speed change (read from the
+// source by speedSource) and the speed steps only record and guard it.
+func (e *env) apply(ws *workspace, x []float64, drawn []Drawn, c *machine.Condition, speedDone bool) ([]float64, []ledger.StepRecord, string) {
 	cur := append(ws.a[:0], x...)
 	ws.a = cur
 	recs := make([]ledger.StepRecord, 0, len(drawn))
 	reason := ""
 	for _, d := range drawn {
-		se := stepEnv{env: e, step: d.Step, cond: c}
+		se := stepEnv{env: e, step: d.Step, cond: c, speedDone: speedDone}
 		out := d.Params.apply(se, ws.spare(cur), cur)
 		if r := d.Params.guard(se); r != "" {
 			reason = r

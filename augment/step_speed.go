@@ -23,6 +23,9 @@ func drawSpeed(s *machine.Step, rng *rand.Rand, dc DrawContext) StepParams {
 }
 
 func (p *speedStep) apply(se stepEnv, dst, x []float64) []float64 {
+	if se.speedDone {
+		return append(dst[:0], x...)
+	}
 	return Speed{Ratio: p.Ratio, Plans: se.plans}.Apply(dst, x, se.fs)
 }
 

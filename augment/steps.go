@@ -65,6 +65,8 @@ type stepEnv struct {
 	*env
 	step *machine.Step
 	cond *machine.Condition
+	// speedDone: the samples already carry the variant's speed change.
+	speedDone bool
 }
 
 // Drawn is one step of a variant with its exact drawn parameters.

@@ -439,6 +439,59 @@ func measure(r *wavio.Reader) (*Levels, *SampleError, error) {
 // DB is 10·log10(power), −Inf for zero power.
 func DB(power float64) float64 { return 10 * math.Log10(power) }
 
+// ReadSpan reads frames [start, start+frames) of a recording, mixed to
+// mono (the channel mean), into dst (nil or short allocates). The span must
+// lie inside the recording: nothing is padded.
+func (r *Recording) ReadSpan(dst []float64, start, frames int64) ([]float64, error) {
+	if r.Err != nil {
+		return nil, r.Err
+	}
+	if start < 0 || frames < 0 || start+frames > r.Frames {
+		return nil, fmt.Errorf("machine: %s: span %d+%d outside its %d frames", r.Rel, start, frames, r.Frames)
+	}
+	f, err := wavio.Open(r.Path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	if err := f.SeekFrame(start); err != nil {
+		return nil, err
+	}
+	ch := r.Format.Channels
+	buf := make([]float64, int(frames)*ch)
+	got := 0
+	for got < int(frames) {
+		k, err := f.ReadFrames(buf[got*ch:])
+		got += k
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return nil, err
+		}
+	}
+	if got < int(frames) {
+		return nil, fmt.Errorf("machine: %s: %d frames from %d, only %d read", r.Rel, frames, start, got)
+	}
+	if cap(dst) < int(frames) {
+		dst = make([]float64, frames)
+	}
+	dst = dst[:frames]
+	if ch == 1 {
+		copy(dst, buf)
+		return dst, nil
+	}
+	inv := 1 / float64(ch)
+	for i := range dst {
+		var s float64
+		for k := 0; k < ch; k++ {
+			s += buf[i*ch+k]
+		}
+		dst[i] = s * inv
+	}
+	return dst, nil
+}
+
 // ReadClips streams the clips of a recording in order, mixed to mono (the
 // channel mean), calling fn with each clip's samples. The slice is reused
 // between calls.

@@ -151,6 +151,7 @@ func TestDemoPipelineCleanAudit(t *testing.T) {
 			t.Errorf("OUT/%s is neither a machine folder nor in machine.ReservedOutNames", e.Name())
 		}
 	}
+	checkFeaturesOutputs(t, plant, out)
 	// a second run redoes nothing and changes no byte
 	before := tree(t, out)
 	if _, stderr, code := cli(t, "run", plant, "--out", out, "-q"); code != exitOK {

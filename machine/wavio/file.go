@@ -117,3 +117,27 @@ func (a *Audio) Mono(dst []float64) []float64 {
 	}
 	return dst
 }
+
+// SeekFrame moves the read position to frame k of the data chunk, so that
+// the next ReadFrames starts there. It needs a data chunk of known length
+// (a regular file) and 0 ≤ k ≤ its frames; after a read error that left an
+// incomplete frame it refuses too.
+func (f *File) SeekFrame(k int64) error {
+	r := f.Reader
+	al := int64(r.align)
+	total := r.read + r.remain/al // frames in the data chunk as declared (clamped to the file)
+	if r.frames >= 0 {
+		total = min(total, r.frames)
+	}
+	if k < 0 || r.remain < 0 || r.have > 0 || k > total {
+		return fmt.Errorf("wavio: %s: cannot seek to frame %d of %d", r.name, k, total)
+	}
+	off := r.data + k*al
+	if _, err := f.f.Seek(off, io.SeekStart); err != nil {
+		return fmt.Errorf("wavio: %s: %w", r.name, err)
+	}
+	r.src.Reset(f.f)
+	r.remain += (r.read - k) * al
+	r.read, r.pos, r.eof = k, off, false
+	return nil
+}

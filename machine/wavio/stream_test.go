@@ -308,3 +308,47 @@ func TestTolerated(t *testing.T) {
 		}
 	}
 }
+
+// SeekFrame moves anywhere in the data, back and forth: what follows is the
+// rest of the file from that frame; beyond the end or negative is refused.
+func TestSeekFrame(t *testing.T) {
+	whole, err := ReadFile(fixture("s16_stereo.wav"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := Open(fixture("s16_stereo.wav"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	ch := whole.Format.Channels
+	buf := make([]float64, 10*ch)
+	for _, tc := range []struct {
+		name string
+		k    int64
+		ok   bool
+	}{
+		{"middle", 999, true},
+		{"back to the start", 0, true},
+		{"last frame", int64(whole.Frames) - 1, true},
+		{"end", int64(whole.Frames), true},
+		{"back again", 1, true},
+		{"past the end", int64(whole.Frames) + 1, false},
+		{"negative", -1, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			err := f.SeekFrame(tc.k)
+			if (err == nil) != tc.ok {
+				t.Fatalf("seek to %d: error %v", tc.k, err)
+			}
+			if !tc.ok {
+				return
+			}
+			n, _ := f.ReadFrames(buf)
+			want := whole.Data[int(tc.k)*ch : min(len(whole.Data), (int(tc.k)+10)*ch)]
+			if !slices.Equal(buf[:n*ch], want) {
+				t.Errorf("after seek to %d: %v, want %v", tc.k, buf[:n*ch], want)
+			}
+		})
+	}
+}
