@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"io/fs"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -13,8 +14,12 @@ import (
 	"testing"
 	"time"
 
+	"thrum/augment"
 	"thrum/features"
 	"thrum/machine"
+	"thrum/machine/demoplant"
+	"thrum/machine/ledger"
+	"thrum/machine/wavio"
 )
 
 // fileStamp is what a rewrite changes even when the bytes stay the same.
@@ -197,5 +202,55 @@ for sp in ("train", "eval", "test"):
 			t.Errorf("loader on %s: %v\n%s", mc.ID, err, b)
 		}
 		t.Logf("%s", b)
+	}
+}
+
+// TestSpeedWithoutRoomIsRejected: with recordings exactly one clip long, a
+// speed-up has no source span to fill a clip and is rejected
+// (no-room-for-speed), never padded; a slow-down reads less than the
+// recording and gives exactly one clip.
+func TestSpeedWithoutRoomIsRejected(t *testing.T) {
+	dir := t.TempDir()
+	plant, err := demoplant.Write(dir, demoplant.Options{Seconds: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	for _, stage := range []string{"expand", "faults"} {
+		if stdout, stderr, code := cli(t, stage, plant, "--out", out, "-q"); code != exitOK {
+			t.Fatalf("%s exit %d\n%s\n%s", stage, code, stdout, stderr)
+		}
+	}
+	entries, err := ledger.ReadTree(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var clip int64
+	rejected, slower := 0, 0
+	for _, e := range entries {
+		if e.Origin == machine.OriginRecorded {
+			clip = e.ClipFrames
+		}
+	}
+	for _, e := range entries {
+		switch {
+		case e.Speed > 1:
+			if e.Kind != ledger.KindRejected || e.Reason != augment.RejectNoRoomForSpeed {
+				t.Errorf("%s %s clip %d variant %d, speed %v: %s %q, want rejected %s", e.Stage, e.Source, e.Clip, e.Variant, e.Speed, e.Kind, e.Reason, augment.RejectNoRoomForSpeed)
+			}
+			rejected++
+		case e.Kind == ledger.KindOutput && e.Speed < 1 && e.Speed > 0:
+			a, err := wavio.ReadFile(filepath.Join(out, filepath.FromSlash(e.Path)))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if int64(a.Frames) != clip || e.ClipFrames != int64(math.Ceil(float64(clip)*e.Speed-1e-9)) {
+				t.Errorf("%s: %d frames from a span of %d at speed %v, clip %d", e.Path, a.Frames, e.ClipFrames, e.Speed, clip)
+			}
+			slower++
+		}
+	}
+	if clip == 0 || rejected == 0 || slower == 0 {
+		t.Errorf("clip %d frames, %d speed-ups rejected, %d slow-downs checked", clip, rejected, slower)
 	}
 }
