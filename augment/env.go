@@ -23,7 +23,6 @@ type env struct {
 	m        *machine.Machine
 	opt      Options
 	fs       float64
-	holdOut  [][2]float64
 	bgIDs    []string
 	bgFrames map[string]int64
 	previous map[string]ledger.Entry
@@ -57,7 +56,7 @@ type irEntry struct {
 }
 
 func newEnv(p *machine.Plant, m *machine.Machine, opt Options, plans *Plans) (*env, error) {
-	e := &env{p: p, m: m, opt: opt, fs: float64(p.SampleRate), holdOut: HoldOutBands(m),
+	e := &env{p: p, m: m, opt: opt, fs: float64(p.SampleRate),
 		bgFrames: map[string]int64{}, bg: map[string][]float64{}, bgBad: map[string]*machine.SampleError{}, bgPath: map[string]string{}, irs: map[string]*irEntry{}, plans: plans}
 	for _, id := range opt.Policy.Backgrounds() {
 		for _, b := range p.Backgrounds {

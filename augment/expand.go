@@ -20,8 +20,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 	res := jobResult{job: j}
 	r := j.rec
 	recipe := e.p.RecipeFor(j.m, j.c)
-	augmentable := r.Label == machine.LabelNormal && !j.c.HoldOut && recipe != nil &&
-		e.opt.Policy.Trains(r.Machine, r.Group)
+	augmentable := r.Label == machine.LabelNormal && !j.c.HoldOut && recipe != nil
 	st := stem(r)
 	folder := "recorded"
 	if r.Label == machine.LabelAnomalous {
@@ -43,7 +42,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 				return err
 			}
 		}
-		if !augmentable {
+		if !augmentable || !e.opt.Policy.Trains(r, c) {
 			return nil
 		}
 		for v := 0; v < recipe.Variants; v++ {
@@ -90,7 +89,7 @@ func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st s
 }
 
 func (e *env) drawContext(j job, c machine.Clip) DrawContext {
-	return DrawContext{Machine: j.m, Condition: j.c, HoldOutBands: e.holdOut,
+	return DrawContext{Machine: j.m, Condition: j.c, HoldOutBands: j.m.HoldOutBands(j.c),
 		Backgrounds: e.bgIDs, BackgroundFrames: e.bgFrames, MicPositions: len(e.mics), ClipFrames: c.Frames}
 }
 

@@ -25,14 +25,23 @@ func (e *env) faultJob(ctx context.Context, j job) jobResult {
 	res := jobResult{job: j}
 	r := j.rec
 	plan := j.m.Faults
-	if plan == nil || r.Label != machine.LabelNormal || j.c.HoldOut || len(plan.Kinds) == 0 ||
-		!e.opt.Policy.Trains(r.Machine, r.Group) {
+	if plan == nil || r.Label != machine.LabelNormal || j.c.HoldOut || len(plan.Kinds) == 0 {
+		return res
+	}
+	trains := false
+	for _, c := range r.Clips {
+		trains = trains || e.opt.Policy.Trains(r, c)
+	}
+	if !trains {
 		return res
 	}
 	st := stem(r)
 	err := r.ReadClips(e.counted(&res, func(c machine.Clip, x []float64) error {
 		if err := ctx.Err(); err != nil {
 			return err
+		}
+		if !e.opt.Policy.Trains(r, c) {
+			return nil
 		}
 		for ki, kind := range plan.Kinds {
 			for k := 0; k < plan.PerClip; k++ {
@@ -85,7 +94,7 @@ func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (ledg
 	seed := VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "fault:"+kind)
 	rng := NewRand(seed)
 	d := &faultDrawn{rng: rng}
-	d.ratio = clampSpeed(1+uniform(rng, speedRange, inc)/100, j.c, e.holdOut)
+	d.ratio = clampSpeed(1+uniform(rng, speedRange, inc)/100, j.c, j.m.HoldOutBands(j.c))
 	d.sev = uniform(rng, plan.SeverityDB, 0)
 	d.resHz = uniform(rng, plan.ResonanceHz, 0)
 	cue, label, err := e.cue(kind, j, d.ratio, d.sev, d.resHz, rng)

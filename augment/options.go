@@ -3,6 +3,7 @@ package augment
 import (
 	"errors"
 
+	"thrum/machine"
 	"thrum/machine/pool"
 	"thrum/machine/wavio"
 )
@@ -11,13 +12,15 @@ import (
 // they report.
 
 // Policy is the evaluation-safety policy the expand and faults stages
-// follow: split.TrainingPolicy(plant) builds it from the plant, so the
+// follow: split.TrainingPolicy(inventory) builds it from the plant and
+// its inventory, so the
 // stages make variants and fault cues only where the split will train.
 type Policy interface {
-	// Trains reports whether a group of normal recordings will be a
-	// training group; variants and fault cues are made only for those (the
-	// split would exclude the others).
-	Trains(machineID, group string) bool
+	// Trains reports whether clip c of a normal recording r will be a
+	// training clip: its group (Plant.ClipGroup) goes to train and it is no
+	// guard gap between blocks. Variants and fault cues are made only for
+	// those (the split would exclude the others).
+	Trains(r *machine.Recording, c machine.Clip) bool
 	// Backgrounds returns the ids of the background files a training
 	// variant may mix in: the training share of the background partition.
 	// Empty: plant noise is synthesised instead.
@@ -50,7 +53,7 @@ func (o Options) check() error {
 		return errors.New("augment: no output folder")
 	}
 	if o.Policy == nil {
-		return errors.New("augment: Options.Policy is required: build it with split.TrainingPolicy(plant), so only training groups get variants and only training backgrounds are mixed in")
+		return errors.New("augment: Options.Policy is required: build it with split.TrainingPolicy(inventory), so only training groups get variants and only training backgrounds are mixed in")
 	}
 	return nil
 }

@@ -56,15 +56,3 @@ func uniform(rng *rand.Rand, r []float64, inc float64) float64 {
 	}
 	return lo + rng.Float64()*(hi-lo)
 }
-
-// HoldOutBands lists the speed bands of a machine's hold-out conditions.
-func HoldOutBands(m *machine.Machine) [][2]float64 {
-	var out [][2]float64
-	for i := range m.Conditions {
-		if c := &m.Conditions[i]; c.HoldOut {
-			lo, hi := c.Band()
-			out = append(out, [2]float64{lo, hi})
-		}
-	}
-	return out
-}

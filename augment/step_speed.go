@@ -37,7 +37,7 @@ func (p *speedStep) guard(se stepEnv) string {
 	if p.Ratio < lo-1e-12 || p.Ratio > hi+1e-12 {
 		reason = RejectSpeedBand
 	}
-	for _, b := range se.holdOut {
+	for _, b := range se.m.HoldOutBands(se.cond) {
 		if rpm := se.cond.RPM * p.Ratio; rpm >= b[0] && rpm <= b[1] {
 			reason = RejectHoldOut
 		}

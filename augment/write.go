@@ -41,7 +41,7 @@ func (e *env) base(r *machine.Recording, c machine.Clip) ledger.Entry {
 	return ledger.Entry{
 		Kind: ledger.KindOutput, Source: r.Rel, SourceSHA256: r.SHA256, Clip: c.Index,
 		ClipStart: c.Start, ClipFrames: c.Frames, Machine: r.Machine, Condition: r.Condition,
-		Label: r.Label, Group: r.Group, SampleRate: e.p.SampleRate, Speed: 1, Scale: 1, Tool: machine.ToolVersion,
+		Label: r.Label, Group: e.p.ClipGroup(r, c), SampleRate: e.p.SampleRate, Speed: 1, Scale: 1, Tool: machine.ToolVersion,
 	}
 }
 

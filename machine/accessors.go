@@ -1,6 +1,12 @@
 package machine
 
-import "path/filepath"
+import (
+	"fmt"
+	"math"
+	"path/filepath"
+	"strconv"
+	"strings"
+)
 
 // Dir is the folder of the plant file; relative paths resolve against it.
 func (p *Plant) Dir() string { return filepath.Dir(p.Path) }
@@ -91,4 +97,70 @@ func (p *Plant) Fractions(m *Machine) SplitFractions {
 func (c *Condition) Band() (lo, hi float64) {
 	lo, hi = c.SpeedBand()
 	return c.RPM * lo, c.RPM * hi
+}
+
+// SharesSpeed reports whether condition c runs at a speed inside the band
+// of condition h (a load condition at the same speed, say). A hold-out
+// condition h that shares c's speed tests something other than speed, so
+// c's training clips and variants are not kept out of h's band.
+func (c *Condition) SharesSpeed(h *Condition) bool {
+	lo, hi := h.Band()
+	return c.RPM >= lo && c.RPM <= hi
+}
+
+// HoldOutBands returns the speed bands [lo, hi] rpm a training clip of
+// condition c must stay out of: those of the machine's hold-out conditions
+// that do not share c's speed (see SharesSpeed).
+func (m *Machine) HoldOutBands(c *Condition) [][2]float64 {
+	var out [][2]float64
+	for i := range m.Conditions {
+		h := &m.Conditions[i]
+		if !h.HoldOut || h.Name == c.Name || c.SharesSpeed(h) {
+			continue
+		}
+		lo, hi := h.Band()
+		out = append(out, [2]float64{lo, hi})
+	}
+	return out
+}
+
+// BlockClips is the number of clips per block (Plant.BlockSeconds), 0 when
+// recordings are not cut into blocks.
+func (p *Plant) BlockClips() int {
+	if p.BlockSeconds <= 0 || p.ClipSeconds <= 0 {
+		return 0
+	}
+	return int(math.Floor(p.BlockSeconds/p.ClipSeconds + 1e-9))
+}
+
+// blockMark separates a recording's group from its block number.
+const blockMark = "#block-"
+
+// BlockGroup names block k of a group.
+func BlockGroup(group string, k int) string { return fmt.Sprintf("%s%s%03d", group, blockMark, k) }
+
+// ParseBlock splits a block group into the recording's group and the
+// block number; ok is false for a group that is not a block.
+func ParseBlock(group string) (base string, k int, ok bool) {
+	i := strings.LastIndex(group, blockMark)
+	if i < 0 {
+		return group, 0, false
+	}
+	n, err := strconv.Atoi(group[i+len(blockMark):])
+	if err != nil || n < 0 {
+		return group, 0, false
+	}
+	return group[:i], n, true
+}
+
+// ClipGroup returns the split group of clip c of recording r: the
+// recording's group, or, when the plant cuts recordings into blocks and r
+// (outside a session folder) is longer than one block, its block
+// BlockGroup(r.Group, c.Index / BlockClips).
+func (p *Plant) ClipGroup(r *Recording, c Clip) string {
+	n := p.BlockClips()
+	if n <= 0 || r.Session != "" || len(r.Clips) <= n {
+		return r.Group
+	}
+	return BlockGroup(r.Group, c.Index/n)
 }

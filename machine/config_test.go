@@ -86,6 +86,10 @@ kind = "fan"
 		{"sample rate", "sample_rate = 16000", "sample_rate = 100", 3, "sample_rate", "8000 … 192000"},
 		{"tempo needs ack", `kind = "gain"`, `kind = "tempo"`, 25, "recipe[basic].step[1].nonphysical", "nonphysical = true"},
 		{"syntax", "seed = 7", "seed = = 7", 2, "", "expected value"},
+		{"split method", "seed = 7", "seed = 7\nsplit_method = \"random\"", 3, "split_method", "not one of shares, stable-hash"},
+		{"block shorter than two clips", "seed = 7", "seed = 7\nblock_seconds = 15", 3, "block_seconds", "shorter than two clips"},
+		{"pin split", "band_percent = 3", "band_percent = 3\n[[machine.pin]]\ngroup = \"pump-a1/full-load/a.wav\"\nsplit = \"dev\"", 51, "machine[pump-a1].pin[0].split", "not one of train, eval, test"},
+		{"pin other machine", "band_percent = 3", "band_percent = 3\n[[machine.pin]]\ngroup = \"fan-b2/full-load/a.wav\"\nsplit = \"test\"", 50, "machine[pump-a1].pin[0].group", "not a group of machine"},
 		{"type", "balls = 9", `balls = "nine"`, 37, "machine[0].bearing[0].balls", "incompatible types"},
 		// The decoder knows only the last line of a key that repeats across
 		// table elements (47 here); the error must name the key's own line.

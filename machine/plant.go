@@ -21,6 +21,18 @@ type Plant struct {
 	Remainder string `toml:"remainder"`
 	// Split holds the train/eval/test fractions used when a machine sets none.
 	Split SplitFractions `toml:"split"`
+	// SplitMethod is how groups are dealt to the splits: "shares" (the
+	// default: per machine and condition, the counts that meet the shares as
+	// closely as the number of groups allows, dealt over the groups in the
+	// order of their stable hash) or "stable-hash" (each group by its own
+	// hash alone, so adding recordings never moves existing groups, but
+	// with few groups the shares are met only on average).
+	SplitMethod string `toml:"split_method"`
+	// BlockSeconds, when set, cuts every recording that is not in a session
+	// folder and is longer than one block into blocks of whole clips
+	// (floor(block_seconds / clip_seconds) clips each), every block its own
+	// split group. It must be at least two clips.
+	BlockSeconds float64 `toml:"block_seconds"`
 
 	Machines    []Machine    `toml:"machine"`
 	Rooms       []Room       `toml:"room"`
@@ -44,6 +56,20 @@ type SplitFractions struct {
 	AnomalousEval float64 `toml:"anomalous_eval"`
 }
 
+// Split methods (Plant.SplitMethod).
+const (
+	SplitShares     = "shares"
+	SplitStableHash = "stable-hash"
+)
+
+// Pin puts one split group of a machine in a fixed split: Group is the
+// group as the ledger names it (the recording's path relative to the
+// recordings root, the session folder, or a block: path#block-NNN).
+type Pin struct {
+	Group string `toml:"group"`
+	Split Split  `toml:"split"`
+}
+
 // Machine is one physical machine (a machine id).
 type Machine struct {
 	ID   string `toml:"id"`
@@ -59,6 +85,8 @@ type Machine struct {
 	Recipe string `toml:"recipe"`
 	// Split overrides the plant's split fractions for this machine.
 	Split *SplitFractions `toml:"split"`
+	// Pins put named groups in a fixed split.
+	Pins []Pin `toml:"pin"`
 
 	Bearings   []Bearing   `toml:"bearing"`
 	Gears      []GearStage `toml:"gear"`

@@ -199,6 +199,16 @@ func (v *validator) plant(p *Plant) {
 		v.bad("", "remainder", "remainder", "%q is not one of drop, pad", p.Remainder)
 	}
 	v.fractions("split", "split", &p.Split, &v.set.Split)
+	switch p.SplitMethod {
+	case "":
+		p.SplitMethod = SplitShares
+	case SplitShares, SplitStableHash:
+	default:
+		v.bad("", "split_method", "split_method", "%q is not one of %s, %s", p.SplitMethod, SplitShares, SplitStableHash)
+	}
+	if p.BlockSeconds != 0 && isFinite(p.BlockSeconds) && isFinite(p.ClipSeconds) && p.BlockSeconds < 2*p.ClipSeconds {
+		v.bad("", "block_seconds", "block_seconds", "%g s is shorter than two clips (2 × %g s): a block must keep a clip besides its guard gap", p.BlockSeconds, p.ClipSeconds)
+	}
 
 	rooms := map[string]*Room{}
 	for i := range p.Rooms {
@@ -442,6 +452,24 @@ func (v *validator) machine(p *Plant, m *Machine, mi int, loc, key string, rooms
 	}
 	if m.Split != nil {
 		v.fractions(loc+".split", key+".split", m.Split, v.set.machine(mi).Split)
+	}
+	pinned := map[string]bool{}
+	for i, pn := range m.Pins {
+		k, ploc := fmt.Sprintf("%s.pin[%d]", key, i), fmt.Sprintf("%s.pin.%d", loc, i)
+		if pn.Group == "" {
+			v.bad(ploc, k+".group", "group", "is required (a split group, e.g. %s/<condition>/<file>.wav)", m.ID)
+		} else if !strings.HasPrefix(pn.Group, m.ID+"/") {
+			v.bad(ploc, k+".group", "group", "%q is not a group of machine %q (groups start with %q)", pn.Group, m.ID, m.ID+"/")
+		}
+		if pinned[pn.Group] {
+			v.bad(ploc, k+".group", "group", "%q is pinned twice", pn.Group)
+		}
+		pinned[pn.Group] = true
+		switch pn.Split {
+		case SplitTrain, SplitEval, SplitTest:
+		default:
+			v.bad(ploc, k+".split", "split", "%q is not one of train, eval, test", pn.Split)
+		}
 	}
 	for i, g := range m.Gears {
 		k, gloc := fmt.Sprintf("%s.gear[%d]", key, i), fmt.Sprintf("%s.gear.%d", loc, i)

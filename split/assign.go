@@ -27,6 +27,9 @@ type Item struct {
 	// Speed is the total speed ratio applied (1 for a recorded clip).
 	Speed       float64
 	Backgrounds []string
+	// Clip is the clip index inside Source (for the guard gaps between
+	// blocks).
+	Clip int
 }
 
 // ItemsFromLedger turns the "output" lines of a ledger into items; other
@@ -44,7 +47,7 @@ func ItemsFromLedger(entries []ledger.Entry) []Item {
 		it := Item{
 			Path: e.Path, SHA256: e.SHA256, Machine: e.Machine, Condition: e.Condition,
 			Origin: e.Origin, Label: e.Label, Group: e.Group, Source: e.Source,
-			SourceSHA256: e.SourceSHA256, Speed: e.Speed,
+			SourceSHA256: e.SourceSHA256, Speed: e.Speed, Clip: e.Clip,
 			Backgrounds: append([]string(nil), e.Backgrounds...),
 		}
 		if it.Speed == 0 {
@@ -100,14 +103,26 @@ type Policy struct {
 	// Backgrounds lists the plant's background ids (more may be found in
 	// the items).
 	Backgrounds []string `json:"backgrounds,omitempty"`
+	// Method is "shares" or "stable-hash" (see Decide); empty means
+	// "stable-hash", the only method of plans written before there was a
+	// choice.
+	Method string `json:"method,omitempty"`
+	// Pins fix the split of named groups.
+	Pins []PinPolicy `json:"pins,omitempty"`
 }
 
 // PolicyFromPlant builds the policy of a loaded plant.
 func PolicyFromPlant(p *machine.Plant) Policy {
-	pol := Policy{Seed: p.Seed, Default: Fractions(p.Split), Machines: map[string]Fractions{}}
+	pol := Policy{Seed: p.Seed, Default: Fractions(p.Split), Machines: map[string]Fractions{}, Method: p.SplitMethod}
+	if pol.Method == "" {
+		pol.Method = machine.SplitShares
+	}
 	for _, m := range p.Machines {
 		if m.Split != nil {
 			pol.Machines[m.ID] = Fractions(*m.Split)
+		}
+		for _, pn := range m.Pins {
+			pol.Pins = append(pol.Pins, PinPolicy{Machine: m.ID, Group: pn.Group, Split: pn.Split})
 		}
 		for _, c := range m.Conditions {
 			pol.Conditions = append(pol.Conditions, ConditionPolicy{
@@ -151,10 +166,18 @@ func (p Policy) condition(machineID, name string) (ConditionPolicy, bool) {
 }
 
 // HoldOutBand returns the first hold-out condition of machineID whose band
-// contains rpm.
-func (p Policy) HoldOutBand(machineID string, rpm float64) (ConditionPolicy, bool) {
+// contains rpm, among those that do not share the speed of condition cond
+// (a hold-out at a training condition's own speed, a load condition say,
+// tests something other than speed and keeps no band free; see
+// machine.Condition.SharesSpeed).
+func (p Policy) HoldOutBand(machineID, cond string, rpm float64) (ConditionPolicy, bool) {
+	own, _ := p.condition(machineID, cond)
+	oc := machine.Condition{RPM: own.RPM}
 	for _, c := range p.Conditions {
-		if c.Machine != machineID || !c.HoldOut {
+		if c.Machine != machineID || !c.HoldOut || c.Name == cond {
+			continue
+		}
+		if oc.SharesSpeed(&machine.Condition{RPM: c.RPM, BandPercent: c.BandPercent}) {
 			continue
 		}
 		if lo, hi := c.Band(); rpm >= lo && rpm <= hi {
@@ -195,18 +218,6 @@ func pick(u float64, f Fractions) machine.Split {
 	}
 }
 
-// NormalGroupSplit is the split Assign gives a group of normal recordings
-// of a condition that is not held out: the stage drivers use it to make
-// variants and fault cues only for training groups (those of eval and test
-// groups would be excluded anyway).
-func (p Policy) NormalGroupSplit(machineID, group string) machine.Split {
-	f, err := p.FractionsFor(machineID)
-	if err != nil {
-		f = DefaultFractions
-	}
-	return pick(Unit(p.Seed, "group", machineID, group), f)
-}
-
 // Row is one item with its split. Reason says which rule decided it.
 type Row struct {
 	Item
@@ -216,11 +227,14 @@ type Row struct {
 
 // Reasons.
 const (
-	ReasonHash          = "hash"            // normal group, by hash
-	ReasonAnomalous     = "anomalous"       // real anomalous group, eval/test by hash
+	ReasonHash          = "hash"            // normal group, by its own hash (stable-hash)
+	ReasonShares        = "shares"          // normal group, dealt by shares over the hash order
+	ReasonAnomalous     = "anomalous"       // real anomalous group, eval/test
 	ReasonHoldOut       = "hold-out"        // group of a hold-out condition
+	ReasonPinned        = "pinned"          // group pinned in plant.toml
 	ReasonDerivedOfEval = "derived-of-eval" // derived file of an eval/test group: dropped
 	ReasonBackground    = "background-not-train"
+	ReasonGuardGap      = "guard-gap" // last clip of a block whose neighbour block has another split
 )
 
 // AssignBackgrounds partitions background ids with the default fractions,
@@ -302,6 +316,33 @@ func Assign(ctx context.Context, items []Item, p Policy) ([]Row, error) {
 		return s
 	}
 
+	infos := make([]GroupInfo, 0, len(groups))
+	flags := map[groupKey]GroupInfo{}
+	var blocks []blockClip
+	for k, idx := range groups {
+		g := GroupInfo{Machine: k.machine, Group: k.group}
+		for _, i := range idx {
+			it := items[i]
+			g.Condition = it.Condition
+			if it.Origin == machine.OriginRecorded && it.Label == machine.LabelAnomalous {
+				g.Anomalous = true
+			}
+			if c, _ := p.condition(it.Machine, it.Condition); c.HoldOut {
+				g.HoldOut = true
+			}
+			if it.Origin == machine.OriginRecorded {
+				blocks = append(blocks, blockClip{it.Machine, it.Group, it.Clip})
+			}
+		}
+		infos = append(infos, g)
+		flags[k] = g
+	}
+	dec, err := p.Decide(infos)
+	if err != nil {
+		return nil, err
+	}
+	guard := guardClips(blocks, dec)
+
 	// Normal groups per machine and condition, for the too-few check.
 	type mc struct{ machine, cond string }
 	normal := map[mc]map[string]bool{}
@@ -310,36 +351,17 @@ func Assign(ctx context.Context, items []Item, p Policy) ([]Row, error) {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		f, err := p.FractionsFor(k.machine)
-		if err != nil {
-			return nil, err
-		}
-		anomalous, holdOut := false, false
-		for _, i := range idx {
-			it := items[i]
-			if it.Origin == machine.OriginRecorded && it.Label == machine.LabelAnomalous {
-				anomalous = true
-			}
-			if c, _ := p.condition(it.Machine, it.Condition); c.HoldOut {
-				holdOut = true
-			}
-		}
-		u := Unit(p.Seed, "group", k.machine, k.group)
-		split, reason := pick(u, f), ReasonHash
-		switch {
-		case holdOut:
-			split, reason = machine.SplitTest, ReasonHoldOut
-		case anomalous:
-			split, reason = machine.SplitTest, ReasonAnomalous
-			if u < f.AnomalousEval {
-				split = machine.SplitEval
-			}
-		}
+		d := dec[k]
+		split, reason := d.Split, d.Reason
+		holdOut, anomalous := flags[k].HoldOut, flags[k].Anomalous
 		for _, i := range idx {
 			it := items[i]
 			r := Row{Item: it, Split: split, Reason: reason}
 			if split != machine.SplitTrain && it.Origin != machine.OriginRecorded {
 				r.Split, r.Reason = Excluded, ReasonDerivedOfEval
+			}
+			if guard[clipKey{it.Machine, it.Group, it.Clip}] {
+				r.Split, r.Reason = Excluded, ReasonGuardGap
 			}
 			if r.Split == machine.SplitTrain {
 				for _, b := range it.Backgrounds {
@@ -348,7 +370,7 @@ func Assign(ctx context.Context, items []Item, p Policy) ([]Row, error) {
 					}
 				}
 				c, _ := p.condition(it.Machine, it.Condition)
-				if h, ok := p.HoldOutBand(it.Machine, c.RPM*it.Speed); ok {
+				if h, ok := p.HoldOutBand(it.Machine, it.Condition, c.RPM*it.Speed); ok {
 					return nil, fmt.Errorf("split: %s: training file at %.6g rpm (condition %q %g rpm × speed %g) lies in the band of hold-out condition %q (%g rpm ± %g %%)",
 						it.Path, c.RPM*it.Speed, c.Name, c.RPM, it.Speed, h.Name, h.RPM, h.BandPercent)
 				}
@@ -428,13 +450,29 @@ func sortRows(rows []Row) {
 
 // EmptySplits lists, for each machine and condition that is not held out,
 // the splits with a non-zero fraction that received no normal recorded
-// group (possible by chance with few groups, since assignment is a stable
-// hash). The messages are meant as warnings.
+// group (with method "stable-hash", possible by chance with few groups;
+// with "shares" only when pins take a split's place), then, per machine,
+// the evaluation splits left without a real anomalous recording (no AUC can
+// be computed on them), and pins that name no group. The messages are
+// meant as warnings.
 func EmptySplits(rows []Row, p Policy) []string {
 	type mc struct{ m, c string }
 	got := map[mc]map[machine.Split]bool{}
+	anom := map[string]map[machine.Split]bool{}
+	groups := map[groupKey]bool{}
 	for _, r := range rows {
-		if r.Origin != machine.OriginRecorded || r.Label != machine.LabelNormal || r.Reason != ReasonHash {
+		groups[groupKey{r.Machine, r.Group}] = true
+		if r.Origin != machine.OriginRecorded {
+			continue
+		}
+		if r.Label == machine.LabelAnomalous {
+			if anom[r.Machine] == nil {
+				anom[r.Machine] = map[machine.Split]bool{}
+			}
+			anom[r.Machine][r.Split] = true
+			continue
+		}
+		if r.Reason != ReasonHash && r.Reason != ReasonShares && r.Reason != ReasonPinned {
 			continue
 		}
 		k := mc{r.Machine, r.Condition}
@@ -444,7 +482,13 @@ func EmptySplits(rows []Row, p Policy) []string {
 		got[k][r.Split] = true
 	}
 	var out []string
+	var machines []string
+	seen := map[string]bool{}
 	for _, c := range p.Conditions {
+		if !seen[c.Machine] {
+			seen[c.Machine] = true
+			machines = append(machines, c.Machine)
+		}
 		if c.HoldOut {
 			continue
 		}
@@ -458,8 +502,30 @@ func EmptySplits(rows []Row, p Policy) []string {
 			v    float64
 		}{{machine.SplitTrain, f.Train}, {machine.SplitEval, f.Eval}, {machine.SplitTest, f.Test}} {
 			if s.v > 0 && !have[s.name] {
-				out = append(out, fmt.Sprintf("machine %q condition %q: no %s group; the stable hash put every group elsewhere: add recordings or sessions", c.Machine, c.Name, s.name))
+				why := "the stable hash put every group elsewhere: add recordings or sessions"
+				if p.byShares() {
+					why = "pins or too few groups leave it none: add recordings or sessions, or change the pins"
+				}
+				out = append(out, fmt.Sprintf("machine %q condition %q: no normal %s group; %s", c.Machine, c.Name, s.name, why))
 			}
+		}
+	}
+	for _, id := range machines {
+		a := anom[id]
+		switch {
+		case len(a) == 0:
+			out = append(out, fmt.Sprintf("machine %q: no real anomalous recording: eval and test hold normal clips only, so no AUC can be computed on real faults", id))
+		case !a[machine.SplitEval] || !a[machine.SplitTest]:
+			miss := machine.SplitTest
+			if !a[machine.SplitEval] {
+				miss = machine.SplitEval
+			}
+			out = append(out, fmt.Sprintf("machine %q: no real anomalous recording in %s, so no AUC can be computed on it: add a second anomalous recording (or session)", id, miss))
+		}
+	}
+	for _, pn := range p.Pins {
+		if !groups[groupKey{pn.Machine, pn.Group}] {
+			out = append(out, fmt.Sprintf("machine %q: pin of group %q to %s names no group of the outputs", pn.Machine, pn.Group, pn.Split))
 		}
 	}
 	return out

@@ -99,7 +99,7 @@ func checkRules(p Policy, items []Item, rows []Row) error {
 			return fmt.Errorf("%s: hold-out condition in %s", r.Path, r.Split)
 		}
 		if r.Split == machine.SplitTrain {
-			if _, in := p.HoldOutBand(r.Machine, c.RPM*r.Speed); in {
+			if _, in := p.HoldOutBand(r.Machine, r.Condition, c.RPM*r.Speed); in {
 				return fmt.Errorf("%s: training speed in a hold-out band", r.Path)
 			}
 			for _, b := range r.Backgrounds {
@@ -351,7 +351,8 @@ func TestEmptySplitsWarns(t *testing.T) {
 		Conditions: []ConditionPolicy{{Machine: "m", Name: "c", RPM: 1000}, {Machine: "m", Name: "h", RPM: 500, HoldOut: true}}}
 	rows := []Row{{Item: Item{Machine: "m", Condition: "c", Origin: "recorded", Label: "normal"}, Split: machine.SplitTrain, Reason: ReasonHash}}
 	w := EmptySplits(rows, p)
-	if len(w) != 2 || !strings.Contains(w[0], "no eval group") || !strings.Contains(w[1], "no test group") {
+	if len(w) != 3 || !strings.Contains(w[0], "no normal eval group") || !strings.Contains(w[1], "no normal test group") ||
+		!strings.Contains(w[2], "no real anomalous recording") {
 		t.Errorf("warnings %q", w)
 	}
 }

@@ -357,7 +357,7 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 			if ok && c.HoldOut {
 				rep.add(RuleHoldOut, "training file from hold-out condition "+c.Name, r.Path)
 			} else if ok {
-				if h, in := plan.Policy.HoldOutBand(r.Machine, c.RPM*r.Speed); in {
+				if h, in := plan.Policy.HoldOutBand(r.Machine, r.Condition, c.RPM*r.Speed); in {
 					rep.add(RuleHoldOutBand, fmt.Sprintf("training file at %.6g rpm lies in hold-out condition %s's band %g rpm ± %g %%", c.RPM*r.Speed, h.Name, h.RPM, h.BandPercent), r.Path)
 				}
 			}

@@ -6,23 +6,51 @@
 // # Assignment rules
 //
 // The unit is the group: a machine id and its ledger Group (the source
-// recording, or its session). All files of a group share one split:
+// recording, its session, or a block of it). All files of a group share one
+// split. Every group has a stable hash
 //
 //	u = Unit(seed, "group", machine, group) ∈ [0, 1)
-//	split = train if u < f_train; eval if u < f_train + f_eval; test otherwise
 //
 // Unit is SHA-256 over "thrum/split/v1\x00", the plant seed (8 bytes little
 // endian) and the NUL-terminated strings kind, machine id and key; the first
-// 8 bytes, big endian, top 53 bits over 2^53. A group's split depends on
-// nothing but its own key, so adding recordings never moves existing ones.
+// 8 bytes, big endian, top 53 bits over 2^53.
 //
 // Fractions come per machine id (Machine.Split), else from the plant
 // (Plant.Split), else DefaultFractions: train 0.70, eval 0.15, test 0.15,
-// anomalous_eval 0.5. train + eval + test must be 1.
+// anomalous_eval 0.5. train + eval + test must be 1. The plant's
+// split_method says how groups are dealt (Policy.Decide):
 //
-//   - A group with a real (recorded) anomalous clip goes to eval when
-//     u < anomalous_eval, to test otherwise; never to train.
+//   - "shares" (default): the normal groups of one machine and condition,
+//     ordered by u (then name), are dealt train first, then eval, then test,
+//     by the counts that meet n × fraction as closely as whole groups allow
+//     (largest remainder, every split with a non-zero fraction getting one
+//     group first when there are enough). Adding a recording changes n and
+//     takes a place in the order, so some existing groups near a boundary
+//     of the order may move to another split; a rerun with the same
+//     recordings always gives the same answer.
+//   - "stable-hash": split = train if u < f_train; eval if u < f_train +
+//     f_eval; test otherwise. A group depends on nothing but its own key, so
+//     adding recordings never moves existing ones, but with few groups the
+//     shares are met only on average and a split may stay empty.
+//
+// Further rules:
+//
+//   - A group pinned in plant.toml ([[machine.pin]] group, split) keeps that
+//     split and counts towards its share; pinning a real anomalous or
+//     hold-out group to train is an error.
+//   - A group with a real (recorded) anomalous clip goes to eval or test,
+//     never to train: with "shares" a machine's anomalous groups, in u
+//     order, are dealt by anomalous_eval and 1 − anomalous_eval, so eval and
+//     test each get one whenever there are two or more; with "stable-hash"
+//     eval when u < anomalous_eval.
 //   - A group with a clip in a hold-out condition goes to test.
+//   - With block_seconds set, a recording outside a session folder longer
+//     than one block is cut into blocks of floor(block_seconds /
+//     clip_seconds) clips, each its own group (path#block-NNN). Where two
+//     neighbouring blocks have different splits, the last clip of the
+//     earlier one is a guard gap: excluded (reason "guard-gap") with every
+//     file derived from it, so no clips recorded back to back straddle two
+//     splits.
 //   - Only recorded files go to eval or test. Augmented and synthetic-fault
 //     files are training-only: in a group whose split is eval or test they
 //     are excluded (listed with split "excluded", reason "derived-of-eval").
@@ -37,20 +65,25 @@
 //   - A training file whose speed, condition rpm × Speed, lies inside the
 //     band rpm·(1 ± band_percent/100) of a hold-out condition of the same
 //     machine is an error: the hold-out would no longer test an unseen speed.
+//     A hold-out condition whose band holds the file's own condition's rpm
+//     (a load condition at the same speed) tests something other than speed
+//     and keeps no band free.
 //   - When the normal recorded groups of one machine and condition are
 //     fewer than the splits with a non-zero fraction, Assign fails with a
-//     *TooFewGroupsError naming both. With enough groups a split may still
-//     come out empty by chance (the hash is not forced, to stay stable);
-//     Summarize shows it.
+//     *TooFewGroupsError naming both. EmptySplits warns of a split left
+//     without normal groups (by chance with "stable-hash") and of a machine
+//     whose eval or test holds no real anomalous recording.
 //
 // # Use
 //
 // Before any split is made, the expand and faults stages follow the
-// training policy, which gives the answers Assign will give:
+// training policy, which gives the answers Assign will give, from the plant
+// and its inventory alone (the usable recordings are the groups the ledgers
+// will hold):
 //
-//	opt := augment.Options{Out: out, Policy: split.TrainingPolicy(plant)}
+//	opt := augment.Options{Out: out, Policy: split.TrainingPolicy(inventory)}
 //
-// so only training groups get variants and fault cues, and training
+// so only training clips get variants and fault cues, and training
 // variants mix in only the train share of the background partition. The
 // split stage is one call; its parts are usable alone:
 //

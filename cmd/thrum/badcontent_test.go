@@ -208,7 +208,7 @@ func TestBadContentIsNamedAndTheRunGoesOn(t *testing.T) {
 					t.Fatal(err)
 				}
 				// only the training share of the backgrounds is mixed in
-				train := split.TrainingPolicy(p).Backgrounds()
+				train := split.TrainingPolicy(&machine.Inventory{Plant: p}).Backgrounds()
 				if len(train) == 0 {
 					t.Fatal("no training background")
 				}

@@ -104,7 +104,8 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		fmt.Fprintf(g.stdout, "shard %d/%d done in %.1f s; when every shard is done, run without --shard to join them and finish\n", sh.I, sh.N, time.Since(t0).Seconds())
 		return nil
 	}
-	if err := runSplitQuiet(ctx, p, o.Out, g.stderr); err != nil {
+	sres, err := runSplitQuiet(ctx, p, o.Out, g.stderr)
+	if err != nil {
 		return err
 	}
 	fsums, err := runFeatures(ctx, g, o, p)
@@ -168,6 +169,9 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 			writeJSONLine(g.stdout, map[string]any{"event": "machine", "machine": id, "clips": m.clips, "recorded": m.recorded,
 				"augmented": m.augmented, "rejected": m.rejected, "faults": m.faults, "splits": m.splits})
 		}
+		for _, w := range sres.Warnings {
+			writeJSONLine(g.stdout, map[string]any{"event": "warning", "stage": "split", "message": w})
+		}
 		writeJSONLine(g.stdout, map[string]any{"event": "done", "audit": verdict, "violations": len(rep.Violations), "wall_s": wall.Seconds(), "report": reportPath})
 	} else {
 		tw := tabwriter.NewWriter(g.stdout, 0, 0, 2, ' ', 0)
@@ -178,6 +182,9 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 				m.splits[string(machine.SplitTrain)], m.splits[string(machine.SplitEval)], m.splits[string(machine.SplitTest)], m.splits[string(split.Excluded)])
 		}
 		tw.Flush()
+		for _, w := range sres.Warnings {
+			fmt.Fprintf(g.stdout, "split: warning: %s\n", w)
+		}
 		fmt.Fprintf(g.stdout, "audit: %s; wall time %.1f s; outputs in %s; report: %s\n", verdict, wall.Seconds(), o.Out, reportPath)
 		if !rep.OK() {
 			rep.WriteText(g.stdout)
@@ -189,7 +196,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	return nil
 }
 
-func runSplitQuiet(ctx context.Context, p *machine.Plant, out string, stderr io.Writer) error {
+func runSplitQuiet(ctx context.Context, p *machine.Plant, out string, stderr io.Writer) (*split.Result, error) {
 	return runSplit(ctx, &globals{stdout: discard{}, stderr: stderr}, stageOptions{Out: out}, p)
 }
 

@@ -141,7 +141,7 @@ func augmentOptions(inv *machine.Inventory, o stageOptions, r *renderer) (augmen
 	if err != nil {
 		return augment.Options{}, err
 	}
-	return augment.Options{Out: o.Out, Policy: split.TrainingPolicy(inv.Plant), Workers: o.Workers,
+	return augment.Options{Out: o.Out, Policy: split.TrainingPolicy(inv), Workers: o.Workers,
 		Encoding: enc, Shard: sh, Progress: r.event}, nil
 }
 

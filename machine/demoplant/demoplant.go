@@ -181,6 +181,7 @@ func plan(p *machine.Plant) ([]take, error) {
 			}
 			if m.ID == "pump-p1" && c.Name == "duty" {
 				out = append(out, take{path: base + machine.AnomalousDir + "/outer-race-01.wav", m: m, c: c, dist: mid, fault: "outer-race"})
+				out = append(out, take{path: base + machine.AnomalousDir + "/outer-race-02.wav", m: m, c: c, dist: near, fault: "outer-race"})
 			}
 		}
 	}

@@ -165,6 +165,7 @@ func TestLayout(t *testing.T) {
 		"recordings/fan-f1/low/take-01.wav",
 		"recordings/fan-f1/low/take-02.wav",
 		"recordings/pump-p1/duty/anomalous/outer-race-01.wav",
+		"recordings/pump-p1/duty/anomalous/outer-race-02.wav",
 		"recordings/pump-p1/duty/take-01.wav",
 		"recordings/pump-p1/duty/take-02.wav",
 		"recordings/pump-p1/duty/take-03.wav",
@@ -209,8 +210,8 @@ func TestLayout(t *testing.T) {
 			t.Errorf("%s not usable: %v", r.Rel, r.Err)
 		}
 	}
-	if len(inv.Recordings) != 34 || sessions != 2 || anomalous != 1 {
-		t.Errorf("inventory: %d recordings, %d in the session, %d anomalous; want 34, 2, 1", len(inv.Recordings), sessions, anomalous)
+	if len(inv.Recordings) != 35 || sessions != 2 || anomalous != 2 {
+		t.Errorf("inventory: %d recordings, %d in the session, %d anomalous; want 35, 2, 2", len(inv.Recordings), sessions, anomalous)
 	}
 	// Enough split groups: six per condition, so that the stable group
 	// hash fills train, eval and test; two for the held-out condition,
