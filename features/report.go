@@ -32,8 +32,49 @@ type ReportData struct {
 	// or "clean" Audit show as "N violation(s)".
 	Audit      string
 	Violations []string
+	// ViolationGroups, when set, show the violations grouped by rule and
+	// machine pair (each group folded, with its count) instead of one flat
+	// list.
+	ViolationGroups []ViolationGroup
+	// Warnings are the split stage's warnings (a split without real
+	// anomalies, an empty split, an unused pin).
+	Warnings []string
+	// HoldOut names the hold-out conditions, "machine/condition".
+	HoldOut []string
+	// Skipped are the recordings the survey left out, with why.
+	Skipped []string
+	// Excluded are the outputs the split kept out of every list.
+	Excluded []ExcludedFile
+	// Conditions count the listed files per machine, condition and split.
+	Conditions []ConditionCounts
 	// Machines are shown in the order given.
 	Machines []MachineReport
+}
+
+// ViolationGroup is the audit violations of one rule between one pair of
+// machines.
+type ViolationGroup struct {
+	Rule, Machines string
+	Lines          []string
+}
+
+// ExcludedFile is an output kept out of every list, and the reason.
+type ExcludedFile struct {
+	Path, Reason string
+}
+
+// ConditionCounts are one machine condition's file counts per split.
+type ConditionCounts struct {
+	Machine, Condition string
+	HoldOut            bool
+	// Splits maps train, eval, test to the counts of that split.
+	Splits map[string]OriginCounts
+}
+
+// OriginCounts count files by origin: recorded (normal and real
+// anomalous), augmented variants, synthetic fault cues.
+type OriginCounts struct {
+	Recorded, Anomalous, Augmented, Faults int
 }
 
 // MachineReport is one machine's counts.
@@ -84,7 +125,26 @@ func RenderReport(w io.Writer, d ReportData) error {
 		Wall:       wallTime(d.WallSeconds),
 		Audit:      d.Audit,
 		Violations: d.Violations,
+		Groups:     d.ViolationGroups,
 		AuditClass: "unknown",
+		Warnings:   d.Warnings,
+		HoldOut:    d.HoldOut,
+		Skipped:    d.Skipped,
+	}
+	reasons := map[string]int{}
+	for _, e := range d.Excluded {
+		reasons[e.Reason]++
+	}
+	v.ExcludedBy = sortedCounts(reasons, nil)
+	v.Excluded = d.Excluded
+	for _, c := range d.Conditions {
+		for _, sp := range splitOrder[:3] {
+			oc, ok := c.Splits[sp]
+			if !ok {
+				continue
+			}
+			v.Conditions = append(v.Conditions, conditionRow{Machine: c.Machine, Condition: c.Condition, HoldOut: c.HoldOut, Split: sp, OriginCounts: oc})
+		}
 	}
 	switch {
 	case len(d.Violations) > 0 || (d.Audit != "" && d.Audit != "clean"):
@@ -124,7 +184,19 @@ type reportView struct {
 	Title, Plant, Out, Wall string
 	Audit, AuditClass       string
 	Violations              []string
+	Groups                  []ViolationGroup
+	Warnings, HoldOut       []string
+	Skipped                 []string
+	Excluded                []ExcludedFile
+	ExcludedBy              []count
+	Conditions              []conditionRow
 	Machines                []machineView
+}
+
+type conditionRow struct {
+	Machine, Condition, Split string
+	HoldOut                   bool
+	OriginCounts
 }
 
 type machineView struct {
@@ -268,7 +340,9 @@ dl.meta dd { margin: 0; font-family: ui-monospace, Menlo, Consolas, monospace; o
 .audit.clean { background: #1e8e3e; color: #ffffff; }
 .audit.fail { background: #c5221f; color: #ffffff; }
 .audit.unknown { background: #80868b; color: #ffffff; }
-ul.violations { color: #a50e0e; margin: 8px 0 0 0; }
+ul.violations, div.violations { color: #a50e0e; margin: 8px 0 0 0; }
+div.violations summary { cursor: pointer; }
+section.warnings { border-left: 4px solid #e37400; padding-left: 12px; }
 table { border-collapse: collapse; margin: 8px 0 16px 0; min-width: 360px; }
 th, td { border: 1px solid #d5dbe1; padding: 4px 10px; text-align: left; vertical-align: top; }
 thead th { background: #eef1f4; }
@@ -291,7 +365,18 @@ figcaption { color: #4a5560; font-size: 0.92em; }
 <dt>Wall time</dt><dd>{{.Wall}}</dd>
 <dt>Leakage audit</dt><dd><span class="audit {{.AuditClass}}">{{.Audit}}</span></dd>
 </dl>
-{{- if .Violations}}
+{{- if .Groups}}
+<div class="violations">
+{{- range .Groups}}
+<details><summary><code>{{.Rule}}</code>{{if .Machines}} — {{.Machines}}{{end}}: {{len .Lines}} violation(s)</summary>
+<ul>
+{{- range .Lines}}
+<li>{{.}}</li>
+{{- end}}
+</ul></details>
+{{- end}}
+</div>
+{{- else if .Violations}}
 <ul class="violations">
 {{- range .Violations}}
 <li>{{.}}</li>
@@ -300,6 +385,53 @@ figcaption { color: #4a5560; font-size: 0.92em; }
 {{- end}}
 </header>
 <main>
+{{- if .Warnings}}
+<section class="warnings">
+<h2>Split warnings</h2>
+<ul>
+{{- range .Warnings}}
+<li>{{.}}</li>
+{{- end}}
+</ul>
+</section>
+{{- end}}
+{{- if .Conditions}}
+<section>
+<h2>Files per condition and split</h2>
+<p>Hold-out conditions (kept out of training, all in test):
+{{- if .HoldOut}}{{range $i, $h := .HoldOut}}{{if $i}},{{end}} <code>{{$h}}</code>{{end}}{{else}} none{{end}}.</p>
+<table>
+<thead><tr><th scope="col">Machine</th><th scope="col">Condition</th><th scope="col">Split</th><th scope="col">Recorded normal</th><th scope="col">Recorded anomalous</th><th scope="col">Augmented</th><th scope="col">Fault cues</th></tr></thead>
+<tbody>
+{{- range .Conditions}}
+<tr><td>{{.Machine}}</td><td>{{.Condition}}{{if .HoldOut}} (hold-out){{end}}</td><td>{{.Split}}</td><td class="n">{{.Recorded}}</td><td class="n">{{.Anomalous}}</td><td class="n">{{.Augmented}}</td><td class="n">{{.Faults}}</td></tr>
+{{- end}}
+</tbody>
+</table>
+</section>
+{{- end}}
+{{- if or .Skipped .Excluded}}
+<section>
+<h2>Skipped and excluded files</h2>
+{{- if .Skipped}}
+<details><summary>{{len .Skipped}} recording(s) or folder(s) the survey left out</summary>
+<ul>
+{{- range .Skipped}}
+<li>{{.}}</li>
+{{- end}}
+</ul></details>
+{{- end}}
+{{- if .Excluded}}
+<p>Outputs kept out of every list, by reason:{{range $i, $c := .ExcludedBy}}{{if $i}};{{end}} {{$c.Name}} {{$c.N}}{{end}}.</p>
+<details><summary>{{len .Excluded}} excluded file(s)</summary>
+<ul>
+{{- range .Excluded}}
+<li><code>{{.Path}}</code>: {{.Reason}}</li>
+{{- end}}
+</ul></details>
+{{- end}}
+</section>
+{{- end}}
 {{- range .Machines}}
 <section class="machine">
 <h2>Machine {{.ID}}</h2>

@@ -461,3 +461,45 @@ func TestReportChromium(t *testing.T) {
 		t.Errorf("%d pixels of the embedded picture's colour, want most of its 320×120", picture)
 	}
 }
+
+// The report shows what a reader needs to judge the dataset: violations
+// grouped by rule and machine pair (with their count), the split's
+// warnings, the hold-out conditions, the skipped and excluded files and a
+// per-condition table of each split's counts.
+func TestReportDatasetSections(t *testing.T) {
+	d := ReportData{
+		Out: t.TempDir(), Audit: "3 violation(s)",
+		Violations: []string{"v1", "v2", "v3"},
+		ViolationGroups: []ViolationGroup{
+			{Rule: "no-near-duplicate-across-splits", Machines: "conveyor-c1 ↔ pump-p1", Lines: []string{"v1", "v2"}},
+			{Rule: "group-in-one-split", Machines: "pump-p1", Lines: []string{"v3"}},
+		},
+		Warnings: []string{`machine "fan-f1": no real anomalous recording in test`},
+		HoldOut:  []string{"fan-f1/low"},
+		Skipped:  []string{"pump-p1/duty/bad.wav: unreadable: not a RIFF file"},
+		Excluded: []ExcludedFile{{"pump-p1/duty/augmented/take-02-c0000-v00.wav", "derived-of-eval"}, {"pump-p1/duty/recorded/take-05-c0003.wav", "guard-gap"}},
+		Conditions: []ConditionCounts{
+			{Machine: "fan-f1", Condition: "high", Splits: map[string]OriginCounts{"train": {Recorded: 7, Augmented: 21, Faults: 14}, "eval": {Recorded: 3, Anomalous: 2}}},
+			{Machine: "fan-f1", Condition: "low", HoldOut: true, Splits: map[string]OriginCounts{"test": {Recorded: 4}}},
+		},
+	}
+	got := renderString(t, d)
+	for _, want := range []string{
+		"no-near-duplicate-across-splits</code> — conveyor-c1 ↔ pump-p1: 2 violation(s)",
+		"group-in-one-split</code> — pump-p1: 1 violation(s)",
+		"Split warnings", html.EscapeString(d.Warnings[0]),
+		"<code>fan-f1/low</code>",
+		"pump-p1/duty/bad.wav: unreadable",
+		"derived-of-eval 1; guard-gap 1",
+		"<td>fan-f1</td><td>high</td><td>train</td><td class=\"n\">7</td><td class=\"n\">0</td><td class=\"n\">21</td><td class=\"n\">14</td>",
+		"<td>fan-f1</td><td>high</td><td>eval</td><td class=\"n\">3</td><td class=\"n\">2</td>",
+		"<td>low (hold-out)</td><td>test</td>",
+	} {
+		if !strings.Contains(got, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+	if strings.Contains(got, `<ul class="violations">`) {
+		t.Error("grouped violations also listed flat")
+	}
+}

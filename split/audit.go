@@ -145,7 +145,8 @@ type AuditOptions struct {
 	// SkipNearDuplicates turns the fingerprint search off (it reads every
 	// listed audio file).
 	SkipNearDuplicates bool
-	// MaxBER is the near-duplicate threshold (0 means DefaultMaxBER).
+	// MaxBER caps the near-duplicate threshold, which otherwise follows the
+	// number of bits compared (neardup.Threshold; 0 means DefaultMaxBER).
 	MaxBER float64
 	// Load reads audio (nil means LoadWAV). It is called from several
 	// goroutines at once.
@@ -483,7 +484,7 @@ func nearDuplicates(ctx context.Context, rep *Report, root string, train, eval [
 	rep.Queries = res.Queries
 	for i, p := range eval {
 		for _, m := range res.Found[i] {
-			rep.add(RuleNearDup, fmt.Sprintf("near-duplicate: fingerprint BER %.3f at offset %.3f s", m.BER, float64(m.Offset)*res.Hops[i]), m.ID, p)
+			rep.add(RuleNearDup, fmt.Sprintf("near-duplicate: fingerprint BER %.3f at offset %.3f s, at or below the threshold %.3f for the %d bits compared", m.BER, float64(m.Offset)*res.Hops[i], m.Threshold, m.Bits), m.ID, p)
 		}
 	}
 	rep.ran(RuleNearDup, len(eval))
@@ -512,4 +513,49 @@ func sortedKeys[V any](m map[string]V) []string {
 	}
 	sort.Strings(k)
 	return k
+}
+
+// ViolationGroup is the violations of one rule between one pair of
+// machines (or within one machine), for a report that would otherwise be a
+// long flat list.
+type ViolationGroup struct {
+	Rule    string `json:"rule"`
+	Leakage string `json:"leakage"`
+	// Machines is the machine id of the files, "a ↔ b" when they belong to
+	// two machines (in lexical order), "" when a file has no machine folder.
+	Machines   string      `json:"machines"`
+	Violations []Violation `json:"violations"`
+}
+
+// Grouped returns the violations grouped by rule and machine pair, in rule
+// then machine order; within a group they keep the report's order. A
+// file's machine is the first folder of its path (OUT/<machine>/…).
+func (r *Report) Grouped() []ViolationGroup {
+	type key struct{ rule, machines string }
+	at := map[key]int{}
+	var out []ViolationGroup
+	for _, v := range r.Violations {
+		set := map[string]bool{}
+		for _, f := range v.Files {
+			if i := strings.IndexByte(f, '/'); i > 0 {
+				set[f[:i]] = true
+			}
+		}
+		ms := sortedKeys(set)
+		k := key{v.Rule, strings.Join(ms, " ↔ ")}
+		i, ok := at[k]
+		if !ok {
+			i = len(out)
+			at[k] = i
+			out = append(out, ViolationGroup{Rule: v.Rule, Leakage: v.Leakage, Machines: k.machines})
+		}
+		out[i].Violations = append(out[i].Violations, v)
+	}
+	sort.SliceStable(out, func(i, j int) bool {
+		if out[i].Rule != out[j].Rule {
+			return out[i].Rule < out[j].Rule
+		}
+		return out[i].Machines < out[j].Machines
+	})
+	return out
 }

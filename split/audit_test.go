@@ -13,6 +13,7 @@ import (
 	"strings"
 	"testing"
 
+	"thrum/augment"
 	"thrum/machine"
 	"thrum/machine/ledger"
 	"thrum/machine/wavio"
@@ -254,6 +255,12 @@ func TestAuditLists(t *testing.T) {
 			wavio.WriteFile(q, synthtest.Noise(x, rng, 10), 16000, 1, wavio.PCM16)
 			eval = append(eval, q)
 		}
+		if i == 2 { // a copy resampled to 44.1 kHz: found across rates
+			q := filepath.Join(dir, "eval-leak2.wav")
+			y := augment.NewResampler(16000.0/44100).Apply(nil, x)
+			wavio.WriteFile(q, y, 44100, 1, wavio.PCM16)
+			eval = append(eval, q)
+		}
 	}
 	for i := range 6 {
 		q := filepath.Join(dir, fmt.Sprintf("eval%d.wav", i))
@@ -272,7 +279,7 @@ func TestAuditLists(t *testing.T) {
 		flagged = append(flagged, v.Files...)
 	}
 	got := strings.Join(flagged, " ")
-	for i := range 2 {
+	for i := range 3 {
 		if !strings.Contains(got, fmt.Sprintf("eval-leak%d.wav", i)) {
 			t.Errorf("leak %d not flagged", i)
 		}
@@ -280,8 +287,8 @@ func TestAuditLists(t *testing.T) {
 	if !strings.Contains(got, "eval-bad.wav") {
 		t.Error("an undecodable file is not reported")
 	}
-	if n := len(rep.Violations); n != 3 {
-		t.Errorf("%d violations, want 3: %v", n, rep.Violations)
+	if n := len(rep.Violations); n != 4 {
+		t.Errorf("%d violations, want 4: %v", n, rep.Violations)
 	}
 }
 

@@ -28,7 +28,11 @@ eval/test file hashes to a recorded clip; no group spans two splits; no augmente
 file outside training; hold-out conditions intact; normalisation statistics fitted on
 training files only; backgrounds partitioned. It also searches for near-duplicates across the
 split boundary with an audio fingerprint robust to gain, time shift, added noise and small
-speed changes, so it finds copies that no ledger mentions.
+speed changes, so it finds copies that no ledger mentions. Every clip is resampled to 8 kHz
+before it is printed, so copies at another sample rate are found too; silent and zero-padded
+stretches take no part; the decision threshold falls with the number of bits compared (a bit
+error model with a false-alarm bound per pair), so short clips are held to the same
+false-alarm rate as long ones.
 
 Without a ledger (a dataset assembled by hand or by another tool), use the lists mode:
 --lists TRAIN EVAL, or --train and --eval (repeatable). Each side is a folder (searched for
@@ -84,7 +88,7 @@ column; only the near-duplicate search runs.`,
 	f.StringSliceVar(&o.Eval, "eval", nil, "evaluation side: folders or list files")
 	f.BoolVar(&o.JSON, "json", false, "print the report as JSON")
 	f.BoolVar(&o.Fast, "no-near-duplicates", false, "skip the fingerprint search (rules from ledgers and lists only)")
-	f.Float64Var(&o.MaxBER, "max-ber", 0, "near-duplicate threshold: fingerprint bit error rate (0 = default)")
+	f.Float64Var(&o.MaxBER, "max-ber", 0, "cap of the near-duplicate threshold: fingerprint bit error rate; the threshold itself falls with fewer bits compared (0 = default 0.39)")
 	return cmd
 }
 

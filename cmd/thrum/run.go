@@ -154,6 +154,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	for _, v := range rep.Violations {
 		rd.Violations = append(rd.Violations, v.String())
 	}
+	fillReport(&rd, p, inv, sres, rep, rows)
 	for _, id := range sortedKeys(reports) {
 		m := reports[id]
 		rd.Machines = append(rd.Machines, features.MachineReport{ID: id, Clips: m.clips, Recorded: m.recorded,
@@ -224,4 +225,56 @@ func counts(m map[string]int) string {
 		total += m[k]
 	}
 	return fmt.Sprintf("%d (%s)", total, strings.Join(parts, ", "))
+}
+
+// fillReport adds to the run report what a reader needs to judge the
+// dataset: the violations grouped by rule and machine pair, the split's
+// warnings, the hold-out conditions, the skipped recordings, the excluded
+// outputs and the per-condition counts of each split.
+func fillReport(rd *features.ReportData, p *machine.Plant, inv *machine.Inventory, sres *split.Result, rep *split.Report, rows []split.Row) {
+	for _, g := range rep.Grouped() {
+		vg := features.ViolationGroup{Rule: g.Rule, Machines: g.Machines}
+		for _, v := range g.Violations {
+			vg.Lines = append(vg.Lines, v.String())
+		}
+		rd.ViolationGroups = append(rd.ViolationGroups, vg)
+	}
+	rd.Warnings = append(rd.Warnings, sres.Warnings...)
+	for _, pr := range inv.Problems {
+		rd.Skipped = append(rd.Skipped, pr.String())
+	}
+	type mc struct{ m, c string }
+	counts := map[mc]map[string]features.OriginCounts{}
+	for _, r := range rows {
+		if r.Split == split.Excluded {
+			rd.Excluded = append(rd.Excluded, features.ExcludedFile{Path: r.Path, Reason: r.Reason})
+			continue
+		}
+		k := mc{r.Machine, r.Condition}
+		if counts[k] == nil {
+			counts[k] = map[string]features.OriginCounts{}
+		}
+		oc := counts[k][string(r.Split)]
+		switch {
+		case r.Origin == machine.OriginAugmented:
+			oc.Augmented++
+		case r.Origin == machine.OriginSyntheticFault:
+			oc.Faults++
+		case r.Label == machine.LabelAnomalous:
+			oc.Anomalous++
+		default:
+			oc.Recorded++
+		}
+		counts[k][string(r.Split)] = oc
+	}
+	for _, m := range p.Machines {
+		for _, c := range m.Conditions {
+			if c.HoldOut {
+				rd.HoldOut = append(rd.HoldOut, m.ID+"/"+c.Name)
+			}
+			if got := counts[mc{m.ID, c.Name}]; got != nil {
+				rd.Conditions = append(rd.Conditions, features.ConditionCounts{Machine: m.ID, Condition: c.Name, HoldOut: c.HoldOut, Splits: got})
+			}
+		}
+	}
 }

@@ -3,6 +3,7 @@ package neardup
 import (
 	"math"
 	"math/bits"
+	"sort"
 
 	"thrum/machine/dsp"
 )
@@ -32,7 +33,22 @@ type Print struct {
 	Words []uint32
 	// Hop is the frame hop in seconds.
 	Hop float64
+	// Dead marks the words that take no part in a comparison: those whose
+	// band energies reach into a silent stretch (a zero-padded tail, digital
+	// silence, a dropout). Nil when every word is live. Dead words are 0.
+	Dead []bool
 }
+
+// live reports whether word t of p takes part in comparisons.
+func (p Print) live(t int) bool { return p.Dead == nil || !p.Dead[t] }
+
+// silentRel is the level, re the clip's median frame energy in the print's
+// bands, below which a short frame counts as silent (−60 dB); silentAbs the
+// absolute floor (a frame of exact zeros, or of float noise around zero).
+const (
+	silentRel = 1e-6
+	silentAbs = 1e-20
+)
 
 // Fingerprinter computes prints at one sample rate. It holds its FFT plan and
 // scratch buffers, so it is not safe for concurrent use: use one per worker.
@@ -49,6 +65,8 @@ type Fingerprinter struct {
 	raw   []float64
 	sm    []float64
 	tw    []float64
+	tot   []float64
+	med   []float64
 }
 
 // NewFingerprinter returns a fingerprinter for sample rate fs in Hz. It
@@ -130,6 +148,23 @@ func (f *Fingerprinter) Print(dst Print, x []float64) Print {
 			row[m] = e
 		}
 	}
+	// Silent short frames: below silentRel times the median frame energy,
+	// or below silentAbs. A word depends on the short frames t … t+K+L−1,
+	// so it is dead when any of them is silent.
+	f.tot = growF(f.tot, nraw)
+	for t := range nraw {
+		var e float64
+		for _, v := range f.raw[t*fpBands : (t+1)*fpBands] {
+			e += v
+		}
+		f.tot[t] = e
+	}
+	f.med = append(f.med[:0], f.tot...)
+	sort.Float64s(f.med)
+	floor := silentAbs
+	if len(f.med) > 0 {
+		floor = max(floor, silentRel*f.med[len(f.med)/2])
+	}
 	// Smoothed energies over fpSmooth short frames (triangular weights).
 	K := fpSmooth
 	ns := nraw - K + 1
@@ -157,8 +192,27 @@ func (f *Fingerprinter) Print(dst Print, x []float64) Print {
 	}
 	dst.Words = grow(dst.Words, nf)
 	dst.Hop = float64(f.hop) / f.fs
+	dst.Dead = dst.Dead[:0]
+	lastSilent := -1 << 30 // latest silent short frame seen
+	span := fpSmooth + fpLag
+	for t := 0; t < min(span-1, nraw); t++ {
+		if f.tot[t] <= floor {
+			lastSilent = t
+		}
+	}
 	var d [fpBands - 1]float64
 	for t := range nf {
+		if e := t + span - 1; e < nraw && f.tot[e] <= floor {
+			lastSilent = e
+		}
+		if lastSilent >= t {
+			if dst.Dead == nil || len(dst.Dead) == 0 {
+				dst.Dead = make([]bool, nf)
+			}
+			dst.Dead[t] = true
+			dst.Words[t] = 0
+			continue
+		}
 		a := f.sm[(t+L)*fpBands : (t+L+1)*fpBands]
 		b := f.sm[t*fpBands : (t+1)*fpBands]
 		var w uint32
@@ -169,6 +223,9 @@ func (f *Fingerprinter) Print(dst Print, x []float64) Print {
 			}
 		}
 		dst.Words[t] = w
+	}
+	if len(dst.Dead) == 0 {
+		dst.Dead = nil
 	}
 	return dst
 }

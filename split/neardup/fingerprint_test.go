@@ -47,7 +47,7 @@ func TestNearDuplicateSearch(t *testing.T) {
 	for i := range 20 {
 		for j := 20; j < 40; j++ {
 			for off := -300; off <= 300; off += 2*ixDrift + 1 {
-				if e, _ := new(verifier).verify(prints[i].Words, prints[j].Words, off); e < lowest {
+				if e, _, _ := new(verifier).verify(prints[i], prints[j], off); e < lowest {
 					lowest = e
 				}
 			}
@@ -232,14 +232,14 @@ func TestVerify(t *testing.T) {
 		q = flipBits(rng, q, tc.p)
 		off := tc.shift + tc.offErr
 		want, wantOff := verifyRef(q, d, off)
-		got, gotOff := vs.verify(q, d, off)
+		got, _, gotOff := vs.verify(Print{Words: q}, Print{Words: d}, off)
 		if math.Abs(got-want) > 1e-12 || gotOff != wantOff {
 			t.Errorf("%s: verify %.6f at %d, reference %.6f at %d", tc.name, got, gotOff, want, wantOff)
 		} else {
 			agree++
 		}
 		for _, limit := range []float64{0.3, DefaultMaxBER} {
-			e, o := vs.verifyBelow(q, d, off, limit)
+			e, _, o := vs.verifyBelow(Print{Words: q}, Print{Words: d}, off, limit)
 			if got <= limit && (e != got || o != gotOff) {
 				t.Errorf("%s: verifyBelow(%.2f) %.4f at %d, verify %.4f at %d", tc.name, limit, e, o, got, gotOff)
 			}

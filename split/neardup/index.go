@@ -50,7 +50,7 @@ const (
 	// candidate may come and still be verified in full (see verifyBelow).
 	ixPreMargin = 0.05
 	// ixQueryStride: the query probes every ixQueryStride-th frame.
-	ixQueryStride = 2
+	ixQueryStride = 1
 	// DefaultMaxBER is the verified bit error rate at or below which two
 	// prints are called near-duplicates. Unrelated prints give about 0.5;
 	// distinct recordings of one synthetic machine verify at 0.43 or more
@@ -68,9 +68,12 @@ type cand struct {
 // verifier holds the scratch space of verify.
 type verifier struct {
 	table []int64
+	nbits []int64
 	shift []int
 	q64   []uint64    // query words in pairs
 	d64   [2][]uint64 // indexed words in pairs from an even and an odd start
+	qm    []uint64    // live masks of the query pairs (all ones: live)
+	dm    [2][]uint64 // live masks of the indexed pairs
 }
 
 // Match is one indexed print found near a query.
@@ -79,8 +82,13 @@ type Match struct {
 	// Offset is the frame offset of the best alignment: indexed frame =
 	// query frame + Offset (times Print.Hop seconds).
 	Offset int
-	// BER is the verified bit error rate (mean of the block-wise minima).
+	// BER is the verified bit error rate along the best line.
 	BER float64
+	// Bits is the number of bits compared along the best line (live words
+	// of both prints only); Threshold the decision threshold for that many
+	// (see Threshold).
+	Bits      int
+	Threshold float64
 	// Votes is the number of hash hits that proposed the candidate, in its
 	// two best neighbouring offset bins (each counted up to 255).
 	Votes int
@@ -98,6 +106,7 @@ type Index struct {
 
 	ids    []string
 	prints [][]uint32
+	dead   [][]bool
 	// pat[t] lists the (frame offset, bit) pairs table t samples.
 	pat   [ixTables][ixKeyBits]struct{ dt, bit uint8 }
 	start [ixTables][]uint32 // bucket directory: 2^ixKeyBits + 1 offsets
@@ -178,6 +187,7 @@ func (ix *Index) Len() int { return len(ix.ids) }
 func (ix *Index) Add(id string, p Print) {
 	ix.ids = append(ix.ids, id)
 	ix.prints = append(ix.prints, p.Words)
+	ix.dead = append(ix.dead, p.Dead)
 	ix.maxLen = max(ix.maxLen, len(p.Words))
 }
 
@@ -198,9 +208,13 @@ func (ix *Index) build() {
 	}
 	const nk = 1 << ixKeyBits
 	n := 0
-	for _, w := range ix.prints {
-		if len(w) >= ixSpan {
-			n += (len(w)-ixSpan)/ixStride + 1
+	stored := make([][]bool, len(ix.prints))
+	for pi, w := range ix.prints {
+		stored[pi] = liveWindows(ix.dead[pi], len(w), ixStride)
+		for _, ok := range stored[pi] {
+			if ok {
+				n++
+			}
 		}
 	}
 	keys := make([]uint16, n)
@@ -209,8 +223,11 @@ func (ix *Index) build() {
 	for t := range ixTables {
 		cnt := make([]uint32, nk+1)
 		i := 0
-		for _, w := range ix.prints {
+		for pi, w := range ix.prints {
 			for f := 0; f+ixSpan <= len(w); f += ixStride {
+				if !stored[pi][f/ixStride] {
+					continue
+				}
 				k := ix.key(t, w, f)
 				keys[i] = uint16(k)
 				cnt[k+1]++
@@ -222,10 +239,10 @@ func (ix *Index) build() {
 		}
 		ix.start[t] = cnt
 		if wide {
-			ix.ent64[t] = fillEntries(ix.ent64[t], ix.prints, keys, cnt, ix.fb)
+			ix.ent64[t] = fillEntries(ix.ent64[t], ix.prints, stored, keys, cnt, ix.fb)
 			ix.ent32[t] = nil
 		} else {
-			ix.ent32[t] = fillEntries(ix.ent32[t], ix.prints, keys, cnt, ix.fb)
+			ix.ent32[t] = fillEntries(ix.ent32[t], ix.prints, stored, keys, cnt, ix.fb)
 			ix.ent64[t] = nil
 		}
 	}
@@ -264,9 +281,14 @@ func (s *Searcher) Query(p Print) []Match {
 	}
 	keys := s.keys[:ixTables*nq]
 	hits := 0
+	qlive := liveWindows(p.Dead, len(w), ixQueryStride)
 	for t := range ixTables {
 		st := ix.start[t]
 		for i := range nq {
+			if !qlive[i] {
+				keys[t*nq+i] = noKey
+				continue
+			}
 			k := ix.key(t, w, i*ixQueryStride)
 			keys[t*nq+i] = k
 			if n := int(st[k+1] - st[k]); n <= ix.full {
@@ -337,9 +359,9 @@ func (s *Searcher) Query(p Print) []Match {
 	}
 	var out []Match
 	for _, c := range cands {
-		e, off := s.vs.verifyBelow(w, ix.prints[c.pi], c.off, maxBER)
-		if e <= maxBER {
-			out = append(out, Match{ID: ix.ids[c.pi], Offset: off, BER: e, Votes: c.votes})
+		e, n, off := s.vs.verifyBelow(p, Print{Words: ix.prints[c.pi], Dead: ix.dead[c.pi]}, c.off, maxBER)
+		if th := Threshold(n, maxBER); n > 0 && e <= th {
+			out = append(out, Match{ID: ix.ids[c.pi], Offset: off, BER: e, Votes: c.votes, Bits: n, Threshold: th})
 		}
 	}
 	sort.Slice(out, func(i, j int) bool {
@@ -385,7 +407,7 @@ func bestPair(row []uint8, need int) (bv, bj int) {
 // fillEntries lays out one table's entries, print<<fb | frame/ixStride,
 // grouped by key: keys holds every stored window's key in print and frame
 // order, start the bucket directory.
-func fillEntries[E uint32 | uint64](dst []E, prints [][]uint32, keys []uint16, start []uint32, fb uint) []E {
+func fillEntries[E uint32 | uint64](dst []E, prints [][]uint32, stored [][]bool, keys []uint16, start []uint32, fb uint) []E {
 	const nk = 1 << ixKeyBits
 	n := int(start[nk])
 	if cap(dst) < n {
@@ -397,6 +419,9 @@ func fillEntries[E uint32 | uint64](dst []E, prints [][]uint32, keys []uint16, s
 	i := 0
 	for pi, w := range prints {
 		for f := 0; f+ixSpan <= len(w); f += ixStride {
+			if !stored[pi][f/ixStride] {
+				continue
+			}
 			k := keys[i]
 			dst[pos[k]] = E(pi)<<fb | E(f/ixStride)
 			pos[k]++
@@ -416,6 +441,9 @@ func vote[E uint32 | uint64](votes []uint8, ix *Index, t, n int, keys []uint32, 
 	fb := ix.fb
 	fm := E(1)<<fb - 1
 	for i, k := range keys {
+		if k == noKey {
+			continue // a window with silent frames
+		}
 		bucket := ent[st[k]:st[k+1]]
 		if len(bucket) > ix.full {
 			continue // a key shared by too many windows says nothing
@@ -480,7 +508,7 @@ func poissonTail(mu float64, m int) float64 {
 // offset at the query's centre. Blocks the line leaves the table or the
 // indexed print for are skipped; a line needs half the blocks. With none it
 // returns 1.
-func (vs *verifier) verify(q, d []uint32, off int) (float64, int) {
+func (vs *verifier) verify(q, d Print, off int) (float64, int, int) {
 	return vs.score(q, d, off, 1)
 }
 
@@ -491,45 +519,74 @@ func (vs *verifier) verify(q, d []uint32, off int) (float64, int) {
 // of the best line is at most the half-sample mean of verify's best line,
 // which differs from that line's mean by far less than the margin, since
 // the bit errors of neighbouring frames are close.
-func (vs *verifier) verifyBelow(q, d []uint32, off int, limit float64) (float64, int) {
-	if e, _ := vs.score(q, d, off, 2); e > limit+ixPreMargin {
-		return 1, off
+func (vs *verifier) verifyBelow(q, d Print, off int, limit float64) (float64, int, int) {
+	if e, _, _ := vs.score(q, d, off, 2); e > limit+ixPreMargin {
+		return 1, 0, off
 	}
 	return vs.score(q, d, off, 1)
 }
 
-// score is verify comparing every step-th pair of frames of each block.
-func (vs *verifier) score(q, d []uint32, off, step int) (float64, int) {
+// score is verify comparing every step-th pair of frames of each block. It
+// returns the BER along the best line, the number of bits compared along
+// it and the offset at the query's centre. Only live words of both prints
+// are compared; a block counts towards a line when at least half its bits
+// were compared.
+func (vs *verifier) score(qp, dp Print, off, step int) (float64, int, int) {
+	q, d := qp.Words, dp.Words
 	nb := len(q) / ixBlock
 	if nb == 0 {
-		return 1, off
+		return 1, 0, off
 	}
 	const no = 2*ixDrift + 1
 	mid := float64(len(q)) / 2
-	// The table has pad unused columns either side, wide enough for the
+	// The tables have pad unused columns either side, wide enough for the
 	// largest shift of a line, so the line search needs no bounds tests. A
-	// cell holds 1<<32 + the count of differing bits when the block fits
-	// in d, else 0: summing cells along a line gives the number of blocks
-	// in the high half and their differing bits in the low half.
+	// table cell holds 1<<32 + the count of differing bits when the block
+	// fits in d with half its bits live, else 0; nbits the bits compared.
+	// Summing cells along a line gives the number of blocks in the high
+	// half and their differing bits in the low half.
 	pad := int(math.Ceil(0.03*mid)) + 1
 	wd := no + 2*pad
 	if cap(vs.table) < nb*wd {
 		vs.table = make([]int64, nb*wd)
+		vs.nbits = make([]int64, nb*wd)
 	}
 	if cap(vs.shift) < nb {
 		vs.shift = make([]int, nb)
 	}
 	table := vs.table[:nb*wd]
+	nbits := vs.nbits[:nb*wd]
 	shift := vs.shift[:nb]
 	clear(table)
+	clear(nbits)
 	// Words in pairs, so that one 64-bit popcount compares two frames; d
 	// is paired from both parities, as a block may start at any frame.
 	vs.q64 = pairWords(vs.q64, q[:nb*ixBlock])
 	vs.d64[0] = pairWords(vs.d64[0], d)
 	vs.d64[1] = pairWords(vs.d64[1], d[min(1, len(d)):])
+	masked := qp.Dead != nil || dp.Dead != nil
+	if masked {
+		vs.qm = pairMask(vs.qm, qp.Dead, nb*ixBlock, 0)
+		vs.dm[0] = pairMask(vs.dm[0], dp.Dead, len(d), 0)
+		vs.dm[1] = pairMask(vs.dm[1], dp.Dead, len(d), min(1, len(d)))
+	}
+	full := int64(64 * ((ixBlock/2 + step - 1) / step))
+	liveBlocks := 0
 	for b := range nb {
 		row := table[b*wd+pad : b*wd+pad+no]
+		nrow := nbits[b*wd+pad : b*wd+pad+no]
 		blk := vs.q64[b*ixBlock/2 : (b+1)*ixBlock/2]
+		if masked {
+			qm := vs.qm[b*ixBlock/2 : (b+1)*ixBlock/2]
+			live := int64(0)
+			for i := 0; i < len(qm); i += step {
+				live += int64(bits.OnesCount64(qm[i]))
+			}
+			if 2*live < full {
+				continue // a mostly silent block of the query
+			}
+		}
+		liveBlocks++
 		for j := range row {
 			lo := b*ixBlock + off - ixDrift + j
 			if lo < 0 || lo+ixBlock > len(d) {
@@ -537,14 +594,30 @@ func (vs *verifier) score(q, d []uint32, off, step int) (float64, int) {
 			}
 			dd := vs.d64[lo&1][lo>>1:]
 			dd = dd[:len(blk)]
-			diff := 0
-			for i := 0; i < len(blk); i += step {
-				diff += bits.OnesCount64(blk[i] ^ dd[i])
+			diff, n := 0, full
+			if masked {
+				qm := vs.qm[b*ixBlock/2 : (b+1)*ixBlock/2]
+				dm := vs.dm[lo&1][lo>>1:]
+				dm = dm[:len(blk)]
+				n = 0
+				for i := 0; i < len(blk); i += step {
+					m := qm[i] & dm[i]
+					diff += bits.OnesCount64((blk[i] ^ dd[i]) & m)
+					n += int64(bits.OnesCount64(m))
+				}
+				if 2*n < full {
+					continue
+				}
+			} else {
+				for i := 0; i < len(blk); i += step {
+					diff += bits.OnesCount64(blk[i] ^ dd[i])
+				}
 			}
 			row[j] = 1<<32 | int64(diff)
+			nrow[j] = n
 		}
 	}
-	var bestDiff, bestN int64 = 1, 0 // best mean so far, as a fraction
+	var bestDiff, bestN, bestBits int64 = 1, 0, 0 // best mean so far, as a fraction
 	bestOff := off
 	for r := -6; r <= 6; r++ {
 		rho := 0.005 * float64(r)
@@ -552,24 +625,79 @@ func (vs *verifier) score(q, d []uint32, off, step int) (float64, int) {
 			shift[b] = b*wd + pad + int(math.Round(rho*(float64(b*ixBlock+ixBlock/2)-mid)))
 		}
 		for j0 := range no {
-			var sum int64
+			var sum, nsum int64
 			for _, sb := range shift {
 				sum += table[sb+j0]
+				nsum += nbits[sb+j0]
 			}
 			n, diff := sum>>32, sum&(1<<32-1)
-			if 2*n < int64(nb) || n == 0 {
+			if 2*n < int64(liveBlocks) || n == 0 {
 				continue
 			}
-			if bestN == 0 || diff*bestN < bestDiff*n {
-				bestDiff, bestN, bestOff = diff, n, off-ixDrift+j0
+			if bestN == 0 || diff*bestBits < bestDiff*nsum {
+				bestDiff, bestN, bestBits, bestOff = diff, n, nsum, off-ixDrift+j0
 			}
 		}
 	}
-	if bestN == 0 {
-		return 1, off
+	if bestN == 0 || bestBits == 0 {
+		return 1, 0, off
 	}
-	bitsPerBlock := int64(64 * ((ixBlock/2 + step - 1) / step))
-	return float64(bestDiff) / float64(bitsPerBlock*bestN), bestOff
+	return float64(bestDiff) / float64(bestBits), int(bestBits) * step, bestOff
+}
+
+// pairMask packs the live masks of words from, from+2, … (n words in all
+// from the start of the print) as pairWords packs the words: all ones for
+// a live word, zero for a dead one.
+func pairMask(dst []uint64, dead []bool, n, from int) []uint64 {
+	m := (n - from) / 2
+	if m < 0 {
+		m = 0
+	}
+	if cap(dst) < m {
+		dst = make([]uint64, m)
+	}
+	dst = dst[:m]
+	for i := range dst {
+		var v uint64
+		if dead == nil || !dead[from+2*i] {
+			v |= 0xFFFFFFFF
+		}
+		if dead == nil || !dead[from+2*i+1] {
+			v |= 0xFFFFFFFF << 32
+		}
+		dst[i] = v
+	}
+	return dst
+}
+
+// noKey marks a query window that holds a dead word.
+const noKey = 1<<32 - 1
+
+// liveWindows returns, for the key windows starting every stride-th word
+// of a print of n words, whether the window holds only live words.
+func liveWindows(dead []bool, n, stride int) []bool {
+	if n < ixSpan {
+		return nil
+	}
+	out := make([]bool, (n-ixSpan)/stride+1)
+	if dead == nil {
+		for i := range out {
+			out[i] = true
+		}
+		return out
+	}
+	pre := make([]int, n+1)
+	for i, d := range dead {
+		pre[i+1] = pre[i]
+		if d {
+			pre[i+1]++
+		}
+	}
+	for i := range out {
+		f := i * stride
+		out[i] = pre[f+ixSpan] == pre[f]
+	}
+	return out
 }
 
 // pairWords packs w[2i] and w[2i+1] into the low and high halves of dst[i]

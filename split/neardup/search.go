@@ -48,7 +48,8 @@ func (o Options) progress(stage string, total int) func() {
 
 // PrintFiles loads and fingerprints paths (joined to root when root is not
 // empty) on a pool of opt.Workers goroutines, each with its own
-// Fingerprinter per sample rate. errs[i] says why path i has no print: the
+// Fingerprinter; every clip is first resampled to CommonRate, so prints of
+// files at different sample rates are comparable. errs[i] says why path i has no print: the
 // loader failed, or the sample rate is below 4 kHz. The returned error is
 // not nil only when ctx ends first (or opt.Load is nil); the context is
 // checked before each file.
@@ -58,7 +59,7 @@ func PrintFiles(ctx context.Context, root string, paths []string, opt Options) (
 	}
 	prints = make([]Print, len(paths))
 	errs = make([]error, len(paths))
-	fps := make([]map[float64]*Fingerprinter, pool.Size(opt.Workers))
+	fps := make([]*Fingerprinter, pool.Size(opt.Workers))
 	done := opt.progress("fingerprint", len(paths))
 	err = pool.Each(ctx, len(paths), opt.Workers, func(ctx context.Context, w, i int) error {
 		if err := ctx.Err(); err != nil {
@@ -76,14 +77,9 @@ func PrintFiles(ctx context.Context, root string, paths []string, opt Options) (
 			errs[i] = fmt.Errorf("neardup: %s: sample rate %g Hz too low to fingerprint", paths[i], fs)
 		default:
 			if fps[w] == nil {
-				fps[w] = map[float64]*Fingerprinter{}
+				fps[w] = NewFingerprinter(CommonRate)
 			}
-			f := fps[w][fs]
-			if f == nil {
-				f = NewFingerprinter(fs)
-				fps[w][fs] = f
-			}
-			prints[i] = f.Print(Print{}, x)
+			prints[i] = fps[w].Print(Print{}, ToCommonRate(x, fs))
 		}
 		done()
 		return nil
@@ -109,9 +105,9 @@ type Result struct {
 	Queries int
 }
 
-// Search fingerprints the train and eval files (see PrintFiles), indexes
-// the training prints, one index per frame hop so that prints at different
-// sample rates never mix, and queries every eval print on the pool, one
+// Search fingerprints the train and eval files at CommonRate (see
+// PrintFiles), indexes the training prints (one index per frame hop; with
+// every print at CommonRate there is one) and queries every eval print on the pool, one
 // Searcher per worker and hop. The result does not depend on the worker
 // count. It returns an error only when ctx ends first (checked before each
 // file) or opt.Load is nil.
