@@ -197,8 +197,9 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	return nil
 }
 
-func runSplitQuiet(ctx context.Context, p *machine.Plant, out string, stderr io.Writer) (*split.Result, error) {
-	return runSplit(ctx, &globals{stdout: discard{}, stderr: stderr}, stageOptions{Out: out}, p)
+func runSplitQuiet(ctx context.Context, p *machine.Plant, out string, _ io.Writer) (*split.Result, error) {
+	// the warnings go to the run summary (and --json), not twice
+	return runSplit(ctx, &globals{stdout: discard{}, stderr: discard{}}, stageOptions{Out: out}, p)
 }
 
 type discard struct{}
