@@ -105,6 +105,9 @@ func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Cli
 		return nil, ent, err
 	}
 	ent.Speed = SpeedOf(drawn)
+	if r, ok := SpeedDrawnOf(drawn); ok {
+		ent.SpeedDrawn = r
+	}
 	ent.Backgrounds = BackgroundsOf(drawn)
 	speedDone := false
 	if ent.Speed != 1 {

@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"thrum/machine"
+	"thrum/split"
 )
 
 func testRecipe() *machine.Recipe {
@@ -148,5 +149,69 @@ func TestNonphysicalStepsAreMarked(t *testing.T) {
 	}
 	if !Nonphysical(Tempo{Factor: 1.02}) || !Nonphysical(Pitch{Cents: 10}) || Nonphysical(Speed{Ratio: 1.01}) {
 		t.Error("Nonphysical misclassifies a transform")
+	}
+}
+
+// A variant's speed steps are guarded in total: two steps of +1.5…2 % in a
+// ±2.5 % band multiply to 1.030…1.040 as drawn, but the applied total stays
+// in the band; with a hold-out condition at 1.035 × rpm (± 1 %) the total
+// also stays out of that band, as the split stage's own check
+// (split.Policy.HoldOutBand) sees it, so the split never refuses the
+// variant. Every step and the total pass the credibility guard, totals are
+// multiples of 0.001, and the steps' ratios multiply to the total.
+func TestTotalSpeedGuarded(t *testing.T) {
+	r := &machine.Recipe{ID: "twice", Variants: 1, MinSteps: 3, MaxSteps: 3, Steps: []machine.Step{
+		{Kind: "speed", Range: []float64{1.5, 2}},
+		{Kind: "gain", Range: []float64{-1, 1}},
+		{Kind: "speed", Range: []float64{1.5, 2}},
+	}}
+	c := &machine.Condition{Name: "duty", RPM: 1500, BandPercent: 2.5}
+	hold := machine.Condition{Name: "fast", RPM: 1.035 * 1500, BandPercent: 1, HoldOut: true}
+	policy := split.Policy{Conditions: []split.ConditionPolicy{
+		{Machine: "m", Name: c.Name, RPM: c.RPM, BandPercent: c.BandPercent},
+		{Machine: "m", Name: hold.Name, RPM: hold.RPM, BandPercent: hold.BandPercent, HoldOut: true},
+	}}
+	hlo, hhi := hold.Band()
+	for _, tc := range []struct {
+		name    string
+		holdOut [][2]float64
+		max     float64 // the largest total allowed
+	}{
+		{"band only", nil, 1.025},
+		{"hold-out at 1.035 × rpm", [][2]float64{{hlo, hhi}}, hlo / c.RPM},
+	} {
+		se := stepEnv{env: &env{holdOut: tc.holdOut}, cond: c}
+		for seed := uint64(0); seed < 300; seed++ {
+			drawn, err := Draw(r, NewRand(seed), DrawContext{Condition: c, HoldOutBands: tc.holdOut})
+			if err != nil {
+				t.Fatal(err)
+			}
+			want, any := SpeedDrawnOf(drawn)
+			if !any || want < 1.015*1.015-1e-12 || want > 1.02*1.02+1e-12 {
+				t.Fatalf("%s, seed %d: drawn total %v, want 1.030…1.0404", tc.name, seed, want)
+			}
+			total := SpeedOf(drawn)
+			if total > tc.max || total < 1 {
+				t.Errorf("%s, seed %d: total %v (drawn %v) outside [1, %v]", tc.name, seed, total, want, tc.max)
+			}
+			if k := total * 1000; math.Abs(k-math.Round(k)) > 1e-6 {
+				t.Errorf("%s, seed %d: total %v is not a multiple of 0.001", tc.name, seed, total)
+			}
+			if h, in := policy.HoldOutBand("m", c.RPM*total); in && tc.holdOut != nil {
+				t.Errorf("%s, seed %d: total %v puts the clip at %v rpm in hold-out %s's band", tc.name, seed, total, c.RPM*total, h.Name)
+			}
+			prod := 1.0
+			for _, d := range drawn {
+				if s, ok := d.Params.(*speedStep); ok {
+					prod *= s.Ratio
+					if reason := s.guard(se); reason != "" {
+						t.Errorf("%s, seed %d: step %+v refused: %s", tc.name, seed, *s, reason)
+					}
+				}
+			}
+			if math.Abs(prod-total) > 1e-12 {
+				t.Errorf("%s, seed %d: step ratios multiply to %v, total %v", tc.name, seed, prod, total)
+			}
+		}
 	}
 }

@@ -9,17 +9,42 @@ import (
 )
 
 // speedStep changes the machine's speed: the clip is resampled by Ratio
-// (Speed). Percent is the drawn change; Ratio is 1 + Percent/100 clamped
-// into the condition's band and out of every hold-out band (clampSpeed).
+// (Speed). Percent is the drawn change. Total is the variant's speed after
+// this step: the product of 1 + Percent/100 over the variant's speed steps
+// so far, clamped into the condition's band and out of every hold-out band
+// (clampSpeed); Ratio is this step's share of it, Total divided by the
+// previous speed step's Total (guardSpeedTotals). With one speed step,
+// Ratio = Total.
 type speedStep struct {
-	Percent, Ratio float64
+	Percent, Ratio, Total float64
 }
 
 func init() { registerStep("speed", drawSpeed) }
 
 func drawSpeed(s *machine.Step, rng *rand.Rand, dc DrawContext) StepParams {
 	pct := uniform(rng, s.Range, s.Increment)
-	return &speedStep{Percent: pct, Ratio: clampSpeed(1+pct/100, dc.Condition, dc.HoldOutBands)}
+	r := clampSpeed(1+pct/100, dc.Condition, dc.HoldOutBands)
+	return &speedStep{Percent: pct, Ratio: r, Total: r}
+}
+
+// guardSpeedTotals sets the applied ratios of a variant's speed steps so
+// that the variant's total speed, not only each step alone, stays inside
+// the condition's band and out of every hold-out band: after each speed
+// step the running product of the drawn ratios 1 + Percent/100 is clamped
+// (clampSpeed) into that step's Total, and the step applies Total over the
+// previous Total. Draw calls it once all steps are drawn; it draws nothing.
+func guardSpeedTotals(drawn []Drawn, dc DrawContext) {
+	want, prev := 1.0, 1.0
+	for _, d := range drawn {
+		p, ok := d.Params.(*speedStep)
+		if !ok {
+			continue
+		}
+		want *= 1 + p.Percent/100
+		p.Total = clampSpeed(want, dc.Condition, dc.HoldOutBands)
+		p.Ratio = p.Total / prev
+		prev = p.Total
+	}
 }
 
 func (p *speedStep) apply(se stepEnv, dst, x []float64) []float64 {
@@ -29,16 +54,16 @@ func (p *speedStep) apply(se stepEnv, dst, x []float64) []float64 {
 	return Speed{Ratio: p.Ratio, Plans: se.plans}.Apply(dst, x, se.fs)
 }
 
-// guard: the ratio must lie in the condition's band and the clip's speed
-// outside every hold-out band.
+// guard: the variant's speed after the step (Total) must lie in the
+// condition's band and outside every hold-out band.
 func (p *speedStep) guard(se stepEnv) string {
 	reason := ""
 	lo, hi := se.cond.SpeedBand()
-	if p.Ratio < lo-1e-12 || p.Ratio > hi+1e-12 {
+	if p.Total < lo-1e-12 || p.Total > hi+1e-12 {
 		reason = RejectSpeedBand
 	}
 	for _, b := range se.m.HoldOutBands(se.cond) {
-		if rpm := se.cond.RPM * p.Ratio; rpm >= b[0] && rpm <= b[1] {
+		if rpm := se.cond.RPM * p.Total; rpm >= b[0] && rpm <= b[1] {
 			reason = RejectHoldOut
 		}
 	}
@@ -51,6 +76,12 @@ func (p *speedStep) Record() ledger.StepRecord {
 
 // SpeedRatio is the factor the step multiplies the shaft speed by.
 func (p *speedStep) SpeedRatio() float64 { return p.Ratio }
+
+// SpeedDrawn is the factor drawn for the step, before any clamping.
+func (p *speedStep) SpeedDrawn() float64 { return 1 + p.Percent/100 }
+
+// SpeedTotal is the variant's speed ratio after this step.
+func (p *speedStep) SpeedTotal() float64 { return p.Total }
 
 // clampSpeed keeps a speed ratio inside the condition's band and out of
 // every hold-out band: a ratio that would land in a hold-out band is pulled

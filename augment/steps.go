@@ -97,6 +97,7 @@ func Draw(r *machine.Recipe, rng *rand.Rand, dc DrawContext) ([]Drawn, error) {
 		s := &r.Steps[i]
 		out = append(out, Drawn{Step: s, Params: stepKinds[s.Kind](s, rng, dc)})
 	}
+	guardSpeedTotals(out, dc)
 	return out, nil
 }
 
@@ -124,18 +125,44 @@ func stepRecord(kind string, params map[string]float64, text map[string]string) 
 type speedChanger interface {
 	// SpeedRatio is the factor the step multiplies the shaft speed by.
 	SpeedRatio() float64
+	// SpeedDrawn is the factor drawn for the step, before clamping.
+	SpeedDrawn() float64
+	// SpeedTotal is the variant's speed ratio after the step: the
+	// product of SpeedRatio over the speed steps so far, exactly as
+	// clamped (0 when the step was not drawn by Draw).
+	SpeedTotal() float64
 }
 
-// SpeedOf returns the product of the speed ratios among drawn steps: the
-// clip's shaft rate is the condition's rpm/60 times it.
+// SpeedOf returns the total speed ratio applied by drawn steps: the clip's
+// shaft rate is the condition's rpm/60 times it. It is the last speed
+// step's clamped total (which the steps' ratios multiply to, up to
+// rounding), or the product of the ratios when no total was set; 1 when
+// there is no speed step.
 func SpeedOf(drawn []Drawn) float64 {
-	r := 1.0
+	r, total := 1.0, 0.0
 	for _, d := range drawn {
 		if s, ok := d.Params.(speedChanger); ok {
 			r *= s.SpeedRatio()
+			total = s.SpeedTotal()
 		}
 	}
+	if total > 0 {
+		return total
+	}
 	return r
+}
+
+// SpeedDrawnOf returns the product of the speed ratios drawn by the steps
+// before clamping, and whether there is a speed step at all.
+func SpeedDrawnOf(drawn []Drawn) (float64, bool) {
+	r, any := 1.0, false
+	for _, d := range drawn {
+		if s, ok := d.Params.(speedChanger); ok {
+			r *= s.SpeedDrawn()
+			any = true
+		}
+	}
+	return r, any
 }
 
 // backgroundMixer is a step that mixes in one of the plant's background

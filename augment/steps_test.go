@@ -136,6 +136,17 @@ func TestSpeedOfMultipliesSpeedSteps(t *testing.T) {
 	if got, want := SpeedOf(drawn), 1.01*0.99; got != want {
 		t.Errorf("SpeedOf = %g, want %g", got, want)
 	}
+	// Drawn steps carry their clamped running total: SpeedOf is the last.
+	drawn = []Drawn{{Params: &speedStep{Percent: 2, Ratio: 1.02, Total: 1.02}}, {Params: &speedStep{Percent: 2, Ratio: 1.025 / 1.02, Total: 1.025}}}
+	if got := SpeedOf(drawn); got != 1.025 {
+		t.Errorf("SpeedOf = %v, want the last total 1.025", got)
+	}
+	if got, ok := SpeedDrawnOf(drawn); !ok || math.Abs(got-1.02*1.02) > 1e-15 {
+		t.Errorf("SpeedDrawnOf = %v, %v, want 1.0404", got, ok)
+	}
+	if _, ok := SpeedDrawnOf([]Drawn{{Params: &gainStep{}}}); ok {
+		t.Error("SpeedDrawnOf without speed steps reports one")
+	}
 	if got := SpeedOf([]Drawn{{Params: &gainStep{}}}); got != 1 {
 		t.Errorf("SpeedOf without speed steps = %g, want 1", got)
 	}

@@ -72,8 +72,13 @@ type Entry struct {
 	SampleRate int    `json:"sample_rate"`
 	// Speed is the total speed ratio applied (1 when none): the clip's actual
 	// shaft rate is the condition's rpm/60 times Speed.
-	Speed float64      `json:"speed"`
-	Steps []StepRecord `json:"steps,omitempty"`
+	Speed float64 `json:"speed"`
+	// SpeedDrawn is the product of the speed ratios the variant's speed
+	// steps drew, before the total was clamped into the condition's band
+	// and out of the hold-out bands; Speed is what was applied. Set only on
+	// lines with a speed step.
+	SpeedDrawn float64      `json:"speed_drawn,omitempty"`
+	Steps      []StepRecord `json:"steps,omitempty"`
 	// Scale is the factor applied at the end to keep the mix from clipping
 	// (1 when none was needed).
 	Scale float64 `json:"scale"`

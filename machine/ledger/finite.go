@@ -127,6 +127,7 @@ func Defined(e Entry, reason string) Entry {
 // float64 (the only float a decoded line holds).
 func visitFloats(e *Entry, fn func(field string, v *float64)) {
 	fn("speed", &e.Speed)
+	fn("speed_drawn", &e.SpeedDrawn)
 	for i := range e.Steps {
 		p := e.Steps[i].Params
 		for _, k := range sortedKeys(p) {
