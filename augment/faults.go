@@ -113,6 +113,9 @@ func (e *env) faultDraw(j job, c machine.Clip, ki, k int, kind, st string) (ledg
 	ent.Steps = steps
 	ent.Fault = &ledger.FaultRecord{Kind: kind, Frequencies: label.Frequencies, ShaftHz: label.ShaftHz,
 		SeverityDB: d.sev, ResonanceHz: label.ResonanceHz, Seed: seed}
+	if b := label.Bearing; b != nil {
+		ent.Fault.Bearing = &ledger.BearingRecord{Index: b.Index, Name: b.Name}
+	}
 	ent.Draw = drawHash(spanMarked(append(steps, ledger.StepRecord{Kind: kind, Params: map[string]float64{"severity_db": d.sev, "resonance_hz": d.resHz}}), d.ratio))
 	ent.Path = fmt.Sprintf("%s/%s/faults/%s-c%04d-%s-%02d.wav", r.Machine, r.Condition, st, c.Index, kind, k)
 	return ent, d, nil
@@ -164,13 +167,14 @@ func (e *env) cue(kind string, j job, ratio, sevDB, resHz float64, rng interface
 	var c fault.Cue
 	switch kind {
 	case fault.KindOuterRace, fault.KindInnerRace, fault.KindBall, fault.KindCage:
-		b := m.Bearings[rng.IntN(len(m.Bearings))]
+		bi := rng.IntN(len(m.Bearings))
+		b := m.Bearings[bi]
 		fr := shafts[b.Shaft]
 		rates := b.Rates(fr)
 		defect := map[string]float64{fault.KindOuterRace: rates.BPFO, fault.KindInnerRace: rates.BPFI,
 			fault.KindBall: rates.BallPass(), fault.KindCage: rates.FTF}[kind]
 		c = fault.Bearing{Kind: kind, ShaftHz: fr, DefectHz: defect, CageHz: rates.FTF, ResonanceHz: resHz,
-			Damping: plan.Damping, JitterFrac: jitter, SeverityDB: sevDB}
+			Damping: plan.Damping, JitterFrac: jitter, SeverityDB: sevDB, Of: &fault.BearingRef{Index: bi, Name: b.Name}}
 	case fault.KindImpact:
 		c = fault.Impact{Count: 1 + rng.IntN(4), ShaftHz: input, ResonanceHz: resHz, Damping: plan.Damping, SeverityDB: sevDB}
 	case fault.KindImbalance, fault.KindMisalignment:

@@ -166,16 +166,34 @@ func (af *aFilter) mag(f, fs float64) float64 {
 }
 
 // aWarmSeconds is how much of the clip, time-reversed, primes the
-// A-weighting filter before the measurement starts.
+// A-weighting filter before the clip itself is fed.
 const aWarmSeconds = 0.2
+
+// aSettleSeconds is the filter's settling time: the measurement starts
+// this long into the clip. The slowest part of the start-up transient is
+// the double pole at f1 = 20.6 Hz, t·e^(−2π·f1·t) with a time constant of
+// 7.7 ms; after 0.2 s (26 time constants) it has fallen by more than
+// 200 dB, far below a 10 Hz tone's −70.4 dB weighting.
+const aSettleSeconds = 0.2
+
+// aSkip is how many samples at the start of an n-sample clip the
+// measurement leaves out: the settling time, but at most a quarter of the
+// clip (a clip shorter than 0.8 s is measured partly inside the
+// transient).
+func aSkip(n int, fs float64) int {
+	return min(int(aSettleSeconds*fs), n/4)
+}
 
 // power returns the mean square of the A-weighted x without modifying x or
 // allocating. The filter is first run, output discarded, over the first
 // aWarmSeconds of x in reverse order (an even reflection about x[0]), so
-// the measurement starts from a state close to steady rather than with the
-// start-up transient of the 20.6 Hz poles. The FIR's centre tap lags by
-// aFIRHalf samples, so the sum covers the outputs aligned with x[0] …
-// x[len−1], the last few fed by the reflection about x[len−1].
+// it meets x[0] from a state close to steady. The reflection still has a
+// slope break at x[0], and the filter's start-up transient from it reads
+// several dB high on a low tone (a 10 Hz tone up to +8.7 dB, depending on
+// its phase); so the mean square is taken over the outputs aligned with
+// x[aSkip] … x[len−1], after the filter has settled. The FIR's centre tap
+// lags by aFIRHalf samples; the last few outputs are fed by the
+// reflection about x[len−1].
 func (af *aFilter) power(x []float64, fs float64) float64 {
 	n := len(x)
 	if n == 0 {
@@ -185,6 +203,7 @@ func (af *aFilter) power(x []float64, fs float64) float64 {
 	var s0, s1 biquadState
 	var buf [1024 + L]float64
 	warm := min(n-1, int(aWarmSeconds*fs))
+	skip := aSkip(n, fs)
 	// Sample j of the extended sequence: the reversed warm-up, then x,
 	// then aFIRHalf samples reflected about the end.
 	total := warm + n + aFIRHalf
@@ -212,7 +231,7 @@ func (af *aFilter) power(x []float64, fs float64) float64 {
 		// The FIR output at extended index j+i reads IIR outputs
 		// j+i−L … j+i, i.e. buf[i : i+L+1], and belongs to input j+i−aFIRHalf.
 		for i := 0; i < m; i++ {
-			if e := j + i - aFIRHalf; e < warm || e >= warm+n {
+			if e := j + i - aFIRHalf; e < warm+skip || e >= warm+n {
 				continue
 			}
 			w := buf[i : i+L+1]
@@ -225,11 +244,14 @@ func (af *aFilter) power(x []float64, fs float64) float64 {
 		copy(buf[:L], buf[m:m+L])
 		j += m
 	}
-	return sum / float64(n)
+	return sum / float64(n-skip)
 }
 
 // Power returns the long-term mean square of x with weighting w, in
 // squared full-scale units. fs is needed for WeightA. An empty x has power 0.
+// With WeightA the mean square leaves out the filter's settling time at the
+// start of x (0.2 s, at most a quarter of x; see aSettleSeconds), so a
+// steady tone reads its weighting whatever its phase.
 func Power(x []float64, fs float64, w Weighting) float64 {
 	if w == WeightA {
 		return newAFilter(fs).power(x, fs)

@@ -32,6 +32,9 @@ type Bearing struct {
 	ModDepth float64
 	// SeverityDB is the cue level relative to the clip RMS.
 	SeverityDB float64
+	// Of names the machine's bearing the rates belong to, for the label;
+	// nil when the cue stands alone.
+	Of *BearingRef
 }
 
 func (b Bearing) withDefaults() Bearing {
@@ -107,7 +110,12 @@ func (b Bearing) Label() Label {
 	if b.ShaftHz > 0 {
 		f["shaft"] = b.ShaftHz
 	}
-	return Label{Kind: b.Kind, Frequencies: f, ShaftHz: b.ShaftHz, SeverityDB: b.SeverityDB, ResonanceHz: b.res().hz}
+	l := Label{Kind: b.Kind, Frequencies: f, ShaftHz: b.ShaftHz, SeverityDB: b.SeverityDB, ResonanceHz: b.res().hz}
+	if b.Of != nil {
+		ref := *b.Of
+		l.Bearing = &ref
+	}
+	return l
 }
 
 // Synthesize writes the cue; see Cue.

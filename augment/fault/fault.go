@@ -59,6 +59,16 @@ type Label struct {
 	// ResonanceHz is the structural resonance the cue rings, 0 for tonal
 	// cues.
 	ResonanceHz float64
+	// Bearing names the machine's bearing a bearing cue was built for;
+	// nil for other cues and for a bearing cue built without one.
+	Bearing *BearingRef
+}
+
+// BearingRef names one of a machine's bearings: its index in the
+// machine's bearing list (0 first) and its name, "" when it has none.
+type BearingRef struct {
+	Index int
+	Name  string
 }
 
 // Cue is a synthetic fault cue.

@@ -616,3 +616,18 @@ func TestNew(t *testing.T) {
 		t.Errorf("ImpactCount 4 gave %+v", c)
 	}
 }
+
+// A bearing cue's label names the machine's bearing it was built for, as a
+// copy; a cue built without one, and other kinds, name none.
+func TestLabelBearing(t *testing.T) {
+	ref := &BearingRef{Index: 1, Name: "non-drive end"}
+	l := Bearing{Kind: KindOuterRace, DefectHz: 100, Of: ref}.Label()
+	if l.Bearing == nil || *l.Bearing != *ref || l.Bearing == ref {
+		t.Errorf("label bearing %+v, want a copy of %+v", l.Bearing, *ref)
+	}
+	for _, c := range []Cue{Bearing{Kind: KindOuterRace, DefectHz: 100}, Orders{Kind: KindImbalance, ShaftHz: 25}, Impact{Count: 1}} {
+		if b := c.Label().Bearing; b != nil {
+			t.Errorf("%s label names bearing %+v", c.Label().Kind, *b)
+		}
+	}
+}

@@ -30,10 +30,21 @@
 //
 //	TWA = Lc + Q/log10(2) · log10(D/100)
 //
-// which for OSHA is the Appendix A form 16.61·log10(D/100) + 90. The
-// formulas are applied at every level: OSHA's thresholds below which sound
-// is left out of the integration (80 dB(A) for the action level, 90 dB(A)
-// for the PEL) are not applied, and nor is any peak (impulse) limit.
+// which for OSHA is the Appendix A form 16.61·log10(D/100) + 90.
+//
+// # OSHA ceiling and counted levels
+//
+// Table G-16 of 29 CFR 1910.95 ends at 115 dB(A) for a quarter of an hour
+// or less: above 115 dB(A) no exposure is permitted, however short, and
+// the report says "not permitted" instead of a permitted time (a note to
+// the table adds that impact or impulsive noise should not exceed 140 dB
+// peak sound pressure level; this package judges steady A-weighted levels
+// only). The dose counts levels from 80 dB(A), where Appendix A's Table
+// G-16a of reference durations starts, to 130 dB(A), where it ends
+// (1910.95(d)(2)(i): monitoring integrates every level from 80 to
+// 130 dB(A)): below 80 dB(A) the OSHA dose is 0 and there is no TWA; above
+// 130 dB(A) the formula is extrapolated and the report says so. The NIOSH
+// figures apply the formula at every level.
 //
 // # European exposure values
 //

@@ -35,6 +35,16 @@ type Criterion struct {
 	// ExchangeDB is the exchange rate: each step this large halves the
 	// permitted time.
 	ExchangeDB float64
+	// CeilingDBA, when above 0, is the level above which no exposure of
+	// any duration is permitted.
+	CeilingDBA float64
+	// ThresholdDBA, when above 0, is the lowest level the dose counts:
+	// time spent below it adds nothing.
+	ThresholdDBA float64
+	// TableTopDBA, when above 0, is the highest level the criterion's
+	// table of reference durations lists; above it the formula is
+	// extrapolated.
+	TableTopDBA float64
 }
 
 // NIOSH is the NIOSH recommended exposure limit: 85 dB(A) for 8 h, 3-dB
@@ -42,18 +52,49 @@ type Criterion struct {
 func NIOSH() Criterion { return Criterion{Name: "NIOSH REL", LevelDBA: 85, ExchangeDB: 3} }
 
 // OSHA is the OSHA permissible exposure limit: 90 dB(A) for 8 h, 5-dB
-// exchange rate (29 CFR 1910.95).
-func OSHA() Criterion { return Criterion{Name: "OSHA PEL", LevelDBA: 90, ExchangeDB: 5} }
+// exchange rate (29 CFR 1910.95(b), Table G-16). Table G-16 ends at
+// 115 dB(A) for a quarter of an hour or less: no exposure above 115 dB(A)
+// is permitted, whatever its length (the ceiling). The dose of Appendix A
+// counts levels from 80 dB(A), where its Table G-16a of reference
+// durations starts (32 h), up to 130 dB(A), where it ends (0.031 h);
+// 1910.95(d)(2)(i) has monitoring integrate every level from 80 to
+// 130 dB(A).
+func OSHA() Criterion {
+	return Criterion{Name: "OSHA PEL", LevelDBA: 90, ExchangeDB: 5, CeilingDBA: 115, ThresholdDBA: 80, TableTopDBA: 130}
+}
 
-// AllowedHours is the permitted daily time at a steady level in hours,
-// 8 / 2^((level − Lc)/Q). It is not capped at 24 h.
+// AllowedHours is the reference duration at a steady level in hours,
+// 8 / 2^((level − Lc)/Q): the time that makes a 100 % dose. It is not
+// capped at 24 h and knows no ceiling; PermittedHours applies the ceiling.
 func (c Criterion) AllowedHours(level float64) float64 {
 	return ReferenceHours / math.Exp2((level-c.LevelDBA)/c.ExchangeDB)
 }
 
+// AboveCeiling reports whether no exposure at all is permitted at level.
+func (c Criterion) AboveCeiling(level float64) bool {
+	return c.CeilingDBA > 0 && level > c.CeilingDBA
+}
+
+// PermittedHours is the permitted daily time at a steady level in hours:
+// AllowedHours, or 0 above the ceiling.
+func (c Criterion) PermittedHours(level float64) float64 {
+	if c.AboveCeiling(level) {
+		return 0
+	}
+	return c.AllowedHours(level)
+}
+
+// Counted reports whether the dose counts time spent at level.
+func (c Criterion) Counted(level float64) bool {
+	return !(c.ThresholdDBA > 0 && level < c.ThresholdDBA)
+}
+
 // Dose is the daily dose in percent of hours at a steady level:
-// 100·hours/AllowedHours(level).
+// 100·hours/AllowedHours(level), and 0 below the threshold.
 func (c Criterion) Dose(level, hours float64) float64 {
+	if !c.Counted(level) {
+		return 0
+	}
 	return 100 * hours / c.AllowedHours(level)
 }
 
@@ -88,8 +129,18 @@ func EUValues() []EUValue {
 
 // Assessment is a steady level and time judged against one criterion.
 type Assessment struct {
-	Criterion    Criterion
+	Criterion Criterion
+	// AllowedHours is the permitted daily time (PermittedHours): 0 when
+	// the level is above the criterion's ceiling.
 	AllowedHours float64
+	// AboveCeiling: no exposure at this level is permitted.
+	AboveCeiling bool
+	// Counted: the level is at or above the criterion's threshold, so
+	// the dose counts it; otherwise Dose is 0 and TWA −Inf.
+	Counted bool
+	// Extrapolated: the level lies above the criterion's table of
+	// reference durations, which the dose formula extends.
+	Extrapolated bool
 	Dose         float64 // percent
 	TWA          float64 // dB(A)
 }
@@ -125,7 +176,10 @@ func NewReport(level, hours float64) (Report, error) {
 		c   Criterion
 	}{{&r.NIOSH, NIOSH()}, {&r.OSHA, OSHA()}} {
 		d := a.c.Dose(level, hours)
-		*a.dst = Assessment{Criterion: a.c, AllowedHours: a.c.AllowedHours(level), Dose: d, TWA: a.c.TWA(d)}
+		*a.dst = Assessment{Criterion: a.c, AllowedHours: a.c.PermittedHours(level),
+			AboveCeiling: a.c.AboveCeiling(level), Counted: a.c.Counted(level),
+			Extrapolated: a.c.TableTopDBA > 0 && level > a.c.TableTopDBA,
+			Dose:         d, TWA: a.c.TWA(d)}
 	}
 	lex := math.Round(r.LEX8h*10) / 10
 	for _, v := range EUValues() {
@@ -141,9 +195,26 @@ func (r Report) Format(w io.Writer) error {
 	var b strings.Builder
 	fmt.Fprintf(&b, "Noise exposure at %.1f dB(A) for %s a day\n\n", r.LevelDBA, Duration(r.Hours))
 	for _, a := range []Assessment{r.NIOSH, r.OSHA} {
-		fmt.Fprintf(&b, "%-10s (%g dB(A), %g-dB exchange): permitted %s, dose %s, TWA %.1f dB(A)\n",
-			a.Criterion.Name, a.Criterion.LevelDBA, a.Criterion.ExchangeDB,
-			Duration(a.AllowedHours), percent(a.Dose), a.TWA)
+		c := a.Criterion
+		fmt.Fprintf(&b, "%-10s (%g dB(A), %g-dB exchange): ", c.Name, c.LevelDBA, c.ExchangeDB)
+		if a.AboveCeiling {
+			fmt.Fprintf(&b, "not permitted (no exposure above %g dB(A))", c.CeilingDBA)
+		} else {
+			fmt.Fprintf(&b, "permitted %s", Duration(a.AllowedHours))
+		}
+		switch {
+		case !a.Counted:
+			fmt.Fprintf(&b, ", dose 0 %% (levels below %g dB(A) are not counted)\n", c.ThresholdDBA)
+			continue
+		case a.Extrapolated:
+			fmt.Fprintf(&b, ", dose %s (extrapolated above %g dB(A))", percent(a.Dose), c.TableTopDBA)
+		default:
+			fmt.Fprintf(&b, ", dose %s", percent(a.Dose))
+		}
+		fmt.Fprintf(&b, ", TWA %.1f dB(A)\n", a.TWA)
+	}
+	if r.OSHA.AboveCeiling {
+		fmt.Fprintf(&b, "OSHA: no exposure above %g dB(A) (29 CFR 1910.95 Table G-16); impact or impulsive noise should not exceed 140 dB peak SPL\n", r.OSHA.Criterion.CeilingDBA)
 	}
 	fmt.Fprintf(&b, "EU 2003/10/EC: LEX,8h %.1f dB(A)", r.LEX8h)
 	if len(r.EUReached) == 0 {

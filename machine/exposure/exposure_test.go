@@ -259,3 +259,91 @@ func TestCaution(t *testing.T) {
 		}
 	}
 }
+
+func TestOSHACeilingAndCountedLevels(t *testing.T) {
+	// 29 CFR 1910.95 Table G-16 ends at "1/4 or less" hour at 115 dB(A): no
+	// exposure above 115 dB(A) is permitted, however short (the mining
+	// rule with the same table says so in words: "No exposure shall exceed
+	// 115 dBA"). Appendix A's Table G-16a lists reference durations from
+	// 80 dB(A) (32 h) to 130 dB(A) (0.031 h), and 1910.95(d)(2)(i) has
+	// monitoring integrate levels from 80 to 130 dB(A) (from memory): the
+	// dose counts nothing below 80 dB(A).
+	tests := []struct {
+		level, hours float64
+		permitted    float64 // hours; 0: not permitted
+		above        bool
+		counted      bool
+		dose         float64 // percent
+		extrapolated bool
+	}{
+		{115, 0.25, 0.25, false, true, 100, false},
+		{115.1, 0.25, 0, true, true, 100 * 0.25 / (8 / math.Exp2(25.1/5)), false},
+		{140, 1, 0, true, true, 100 / (8 / math.Exp2(10)), true},
+		{130, 0.031, 8 / math.Exp2(8), true, true, 100 * 0.031 / (8 / math.Exp2(8)), false},
+		{80, 8, 32, false, true, 25, false},
+		{79.9, 8, 8 / math.Exp2(-10.1/5), false, false, 0, false},
+		{60, 24, 8 / math.Exp2(-6), false, false, 0, false},
+	}
+	for _, tc := range tests {
+		r, err := NewReport(tc.level, tc.hours)
+		if err != nil {
+			t.Fatal(err)
+		}
+		a := r.OSHA
+		if tc.above {
+			tc.permitted = 0
+		}
+		if a.AboveCeiling != tc.above || math.Abs(a.AllowedHours-tc.permitted) > 1e-9*math.Max(1, tc.permitted) {
+			t.Errorf("OSHA at %g dB(A): permitted %g h (above ceiling %v), want %g h (%v)", tc.level, a.AllowedHours, a.AboveCeiling, tc.permitted, tc.above)
+		}
+		if a.Counted != tc.counted || math.Abs(a.Dose-tc.dose) > 1e-9*math.Max(1, tc.dose) || a.Extrapolated != tc.extrapolated {
+			t.Errorf("OSHA at %g dB(A) for %g h: counted %v, dose %g %%, extrapolated %v; want %v, %g %%, %v",
+				tc.level, tc.hours, a.Counted, a.Dose, a.Extrapolated, tc.counted, tc.dose, tc.extrapolated)
+		}
+		if !tc.counted && !math.IsInf(a.TWA, -1) {
+			t.Errorf("OSHA at %g dB(A): TWA %g for an uncounted level", tc.level, a.TWA)
+		}
+	}
+	// NIOSH 98-126 sets no such cut-offs here: 140 dB(A) still has a
+	// (sub-second) permitted time, and 70 dB(A) a dose.
+	r, _ := NewReport(140, 8)
+	if r.NIOSH.AboveCeiling || r.NIOSH.AllowedHours <= 0 {
+		t.Errorf("NIOSH at 140 dB(A): %+v", r.NIOSH)
+	}
+	if r, _ := NewReport(70, 8); !r.NIOSH.Counted || r.NIOSH.Dose <= 0 {
+		t.Errorf("NIOSH at 70 dB(A): %+v", r.NIOSH)
+	}
+}
+
+func TestFormatCeiling(t *testing.T) {
+	// 140 dB(A) is above Table G-16's 115 dB(A): the formula's 28 s
+	// (8 h / 2^10) must not be printed as an OSHA permitted time.
+	r, err := NewReport(140, 8)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b bytes.Buffer
+	if err := r.Format(&b); err != nil {
+		t.Fatal(err)
+	}
+	out := b.String()
+	osha := ""
+	for _, line := range strings.Split(out, "\n") {
+		if strings.HasPrefix(line, "OSHA PEL") {
+			osha = line
+		}
+	}
+	if strings.Contains(osha, "permitted 28 s") || !strings.Contains(osha, "not permitted (no exposure above 115 dB(A))") ||
+		!strings.Contains(osha, "extrapolated above 130 dB(A)") {
+		t.Errorf("OSHA line at 140 dB(A): %q", osha)
+	}
+	if !strings.Contains(out, "Table G-16") || !strings.Contains(out, "140 dB peak") {
+		t.Errorf("no ceiling note:\n%s", out)
+	}
+	r, _ = NewReport(75, 8)
+	b.Reset()
+	_ = r.Format(&b)
+	if !strings.Contains(b.String(), "dose 0 % (levels below 80 dB(A) are not counted)") {
+		t.Errorf("75 dB(A):\n%s", b.String())
+	}
+}

@@ -120,5 +120,16 @@ type FaultRecord struct {
 	ShaftHz     float64            `json:"shaft_hz"`
 	SeverityDB  float64            `json:"severity_db"`
 	ResonanceHz float64            `json:"resonance_hz,omitempty"`
-	Seed        uint64             `json:"seed"`
+	// Bearing names the machine's bearing a bearing-defect cue was built
+	// for; absent for other kinds.
+	Bearing *BearingRecord `json:"bearing,omitempty"`
+	Seed    uint64         `json:"seed"`
+}
+
+// BearingRecord names one of a machine's bearings: its index in the
+// machine's [[machine.bearing]] list (0 first) and its name, when it has
+// one.
+type BearingRecord struct {
+	Index int    `json:"index"`
+	Name  string `json:"name,omitempty"`
 }
