@@ -114,6 +114,14 @@ func toRoom(pr *machine.Room) (room.Room, error) {
 			r.Octave[f] = w
 		}
 	}
+	if len(pr.RT60) > 0 {
+		r.RT60 = map[int]float64{}
+		for k, v := range pr.RT60 {
+			var f int
+			fmt.Sscan(k, &f)
+			r.RT60[f] = v
+		}
+	}
 	if pr.TemperatureC != nil {
 		r.TemperatureC = *pr.TemperatureC
 	}
@@ -141,7 +149,12 @@ func (e *env) roomIR(i int) *irEntry {
 		}
 		var src [3]float64
 		copy(src[:], e.m.Position)
-		h, err := room.ImpulseResponse(nil, *e.room, src, e.mics[i], e.fs, room.Config{})
+		// The diffuse tail's noise is seeded per machine and microphone
+		// position, like the positions themselves, so the response is
+		// the same in every run, worker and shard and can be shared by
+		// the variants that draw the position.
+		tail := NewRand(VariantSeed(e.p.Seed, e.m.ID, "", i, 0, "room-tail"))
+		h, err := room.ImpulseResponse(nil, *e.room, src, e.mics[i], e.fs, room.Config{}, tail)
 		if err != nil {
 			ent.err = err
 			return

@@ -56,3 +56,20 @@ func TestFaultRecordNamesBearing(t *testing.T) {
 		t.Errorf("24 bearing files drew bearings %v, want both", used)
 	}
 }
+
+// A room's measured rt60 per octave band reaches the simulated room.
+func TestToRoomKeepsRT60(t *testing.T) {
+	temp := 20.0
+	pr := &machine.Room{ID: "hall", Size: []float64{24, 14, 7}, Absorption: machine.Walls{0.1, 0.1, 0.1, 0.1, 0.1, 0.1},
+		RT60: map[string]float64{"500": 2.1, "1000": 1.8}, TemperatureC: &temp}
+	r, err := toRoom(pr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.RT60) != 2 || r.RT60[500] != 2.1 || r.RT60[1000] != 1.8 {
+		t.Errorf("rt60 %v", r.RT60)
+	}
+	if got := r.RT60At(1000); got != 1.8 {
+		t.Errorf("RT60At(1000) = %v, want the measured 1.8 s", got)
+	}
+}

@@ -101,6 +101,8 @@ kind = "fan"
 		{"inf clip", "seed = 7", "seed = 7\nclip_seconds = inf", 3, "clip_seconds", "not a finite number"},
 		{"-inf rpm", "rpm = 1480", "rpm = -inf", 43, "machine[pump-a1].condition[full-load].rpm", "not a finite number"},
 		{"nan absorption", "absorption = 0.1", "absorption = nan", 9, "room[hall].absorption[0]", "not a finite number"},
+		{"rt60 band", "absorption = 0.1", "absorption = 0.1\nrt60 = { \"1000\" = 1.2, \"3000\" = 1.0 }", 10, "room[hall].rt60.3000", "not one of"},
+		{"rt60 range", "absorption = 0.1", "absorption = 0.1\nrt60 = { \"500\" = 45 }", 10, "room[hall].rt60.500", "0.05 … 30 s"},
 		{"nan range", "range = [-6, 6]", "range = [-6, nan]", 26, "recipe[basic].step[1].range[1]", "not a finite number"},
 		{"inf increment", "increment = 0.5", "increment = +inf", 23, "recipe[basic].step[0].increment", "not a finite number"},
 		{"nan split", "[[room]]", "[split]\nanomalous_eval = nan\n[[room]]", 7, "split.anomalous_eval", "not a finite number"},

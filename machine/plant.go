@@ -187,6 +187,11 @@ type Room struct {
 	// OctaveAbsorption optionally gives per-wall absorption per octave band,
 	// keyed by band centre ("125" ... "4000"), six values each.
 	OctaveAbsorption map[string][]float64 `toml:"octave_absorption"`
+	// RT60 optionally gives the room's measured reverberation time per
+	// octave band in seconds, keyed by band centre ("125" ... "4000"): the
+	// diffuse tail of its impulse responses then decays at these times
+	// instead of Eyring's for the absorption.
+	RT60 map[string]float64 `toml:"rt60"`
 	// TemperatureC sets the speed of sound (default 20 °C).
 	TemperatureC *float64 `toml:"temperature_c"`
 	// RT60Range is the plausible reverberation time range, [min, max] s,

@@ -33,7 +33,7 @@ func FaultKinds() []string {
 	return []string{"outer-race", "inner-race", "ball", "cage", "impact", "imbalance", "misalignment", "gear-tooth"}
 }
 
-// OctaveBands are the band centres accepted in octave_absorption.
+// OctaveBands are the band centres accepted in octave_absorption and rt60.
 func OctaveBands() []string { return []string{"125", "250", "500", "1000", "2000", "4000"} }
 
 var idPattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]{0,63}$`)
@@ -361,6 +361,18 @@ func (v *validator) room(r *Room, loc, key string) {
 		for _, a := range vals {
 			v.rangeCheck(loc, k, "octave_absorption", a, 0.01, 0.99, "")
 		}
+	}
+	names = names[:0]
+	for b := range r.RT60 {
+		names = append(names, b)
+	}
+	sort.Strings(names)
+	for _, b := range names {
+		k := key + ".rt60." + b
+		if !bands[b] {
+			v.bad(loc, k, "rt60", "band %q is not one of %s", b, strings.Join(OctaveBands(), ", "))
+		}
+		v.rangeCheck(loc, k, "rt60", r.RT60[b], 0.05, 30, "s")
 	}
 	if r.TemperatureC == nil {
 		t := DefaultTemperatureC

@@ -5,14 +5,31 @@ import (
 	"testing"
 )
 
-// A 20 × 12 × 6 m hall with α = 0.1 at 16 kHz: Eyring 2.55 s, ~2·10⁶ images.
+// A 20 × 12 × 6 m hall with α = 0.1 at 16 kHz: Eyring 2.55 s; image
+// part and diffuse tail.
 func BenchmarkImpulseResponseHall(b *testing.B) {
+	r := Room{Size: [3]float64{20, 12, 6}, Absorption: uniform(0.1), TemperatureC: 20}
+	src, mic := [3]float64{3.1, 4.3, 1.4}, [3]float64{14.3, 8.1, 1.7}
+	var dst []float64
+	rng := rand.New(rand.NewPCG(1, 2))
+	for b.Loop() {
+		var err error
+		if dst, err = ImpulseResponse(dst, r, src, mic, 16000, Config{}, rng); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(len(dst))/16000, "ir_s")
+}
+
+// The same hall, purely specular (images up to the full length, ~2·10⁶
+// of them): the model before the diffuse tail, for comparison.
+func BenchmarkImpulseResponseHallSpecular(b *testing.B) {
 	r := Room{Size: [3]float64{20, 12, 6}, Absorption: uniform(0.1), TemperatureC: 20}
 	src, mic := [3]float64{3.1, 4.3, 1.4}, [3]float64{14.3, 8.1, 1.7}
 	var dst []float64
 	for b.Loop() {
 		var err error
-		if dst, err = ImpulseResponse(dst, r, src, mic, 16000, Config{}); err != nil {
+		if dst, err = ImpulseResponse(dst, r, src, mic, 16000, Config{Specular: true, MaxSeconds: 4}, nil); err != nil {
 			b.Fatal(err)
 		}
 	}
@@ -27,9 +44,26 @@ func BenchmarkImpulseResponseHallOctave(b *testing.B) {
 	r := Room{Size: [3]float64{20, 12, 6}, Absorption: uniform(0.1), Octave: oct, TemperatureC: 20}
 	src, mic := [3]float64{3.1, 4.3, 1.4}, [3]float64{14.3, 8.1, 1.7}
 	var dst []float64
+	rng := rand.New(rand.NewPCG(1, 2))
 	for b.Loop() {
 		var err error
-		if dst, err = ImpulseResponse(dst, r, src, mic, 16000, Config{}); err != nil {
+		if dst, err = ImpulseResponse(dst, r, src, mic, 16000, Config{}, rng); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkImpulseResponseHallOctaveSpecular(b *testing.B) {
+	oct := map[int][6]float64{}
+	for i, hz := range OctaveBands() {
+		oct[hz] = uniform(0.1 + 0.05*float64(i))
+	}
+	r := Room{Size: [3]float64{20, 12, 6}, Absorption: uniform(0.1), Octave: oct, TemperatureC: 20}
+	src, mic := [3]float64{3.1, 4.3, 1.4}, [3]float64{14.3, 8.1, 1.7}
+	var dst []float64
+	for b.Loop() {
+		var err error
+		if dst, err = ImpulseResponse(dst, r, src, mic, 16000, Config{Specular: true, MaxSeconds: 4}, nil); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -1,5 +1,6 @@
-// Package room simulates the microphone position in a room: an image-method
-// impulse response for a rectangular room, its decay analysis, and the
+// Package room simulates the microphone position in a room: an impulse
+// response for a rectangular room (image method for the early part, a
+// diffuse tail after the mixing time), its decay analysis, and the
 // convolution that applies it to a clip.
 //
 // # Model
@@ -56,20 +57,68 @@
 // few milliseconds before its arrival. Without Room.Octave the walls are
 // frequency independent.
 //
+// # Diffuse tail (hybrid model)
+//
+// Purely specular images decay too slowly in the flat rooms plants are
+// (grazing paths along the long axes meet few walls: T30 ≈ 1.6 × Eyring
+// for 10 × 8 × 3 m, 2.6–2.8 × for 20 × 10 × 3 m), because real walls and
+// machinery scatter. So, as in the hybrid of Lehmann & Johansson
+// ("Diffuse reverberation model for efficient image-source simulation of
+// room impulse responses", IEEE Trans. Audio, Speech, Lang. Process.
+// 18(6), 2010), the images make the IR only up to the join, the mixing time
+// after the direct sound (Room.MixingTime: 20·V/S ms + 12 ms, the
+// mean-free-path predictor of Lindau, Kosanke & Weinzierl 2012, J. Audio
+// Eng. Soc. 60(11); moved later if need be until every first-order
+// reflection lies before it), and a diffuse tail takes over:
+//
+//   - Gaussian noise drawn from the caller's random source (the same source
+//     state gives the same IR), split into bands on a fractional-octave
+//     grid (Config.BandsPerOctave, third octaves by default, from 25 Hz to
+//     fs/2) by the complementary crossovers above;
+//   - each band multiplied by an exponential envelope falling 60 dB in the
+//     band's RT60 (Room.RT60At): the measured Room.RT60 interpolated in log
+//     frequency when given, otherwise Eyring's time for the walls' α at the
+//     band centre (Room.AbsorptionAt interpolates the octave values in log
+//     frequency, so no two-slope decay arises between far-apart octaves);
+//   - the envelope starting at the energy the image lattice carries at the
+//     join, per sample c/(4π·V·fs) · ⟨e^(−r(u)·t)⟩ · the kernel's mean
+//     energy (the image density 1/V times the mean squared image gain),
+//     so the energy is continuous at the join.
+//
+// The bands filter the stationary noise before the envelopes are applied,
+// so nothing reaches before the join, and equal envelopes sum back to the
+// noise itself. The tail then decays at Eyring's rate (T30 within a few per
+// cent) and with one slope (T30 ≈ EDT) in every band. Config.Specular turns
+// the tail off (images over the whole length, the model before).
+//
+// Limits: the tail is diffuse and isotropic by construction, with no room
+// modes (below the Schroeder frequency 2000·sqrt(T/V) Hz a real room
+// rings at its modes; the image part keeps them only up to the join); the
+// early part is still specular (no scattering there); air absorption is
+// not modelled; the Eyring time is a diffuse-field prediction, which
+// measured halls with very uneven absorption (an absorbent ceiling over
+// hard walls) can miss: give the measured rt60 then.
+//
 // # Length and cost
 //
-// The IR is cut where the predicted Schroeder curve has fallen by
-// Config.DecayDB (50 dB by default), capped by Config.MaxSeconds (4 s).
-// The prediction follows the image lattice: in direction u an image c·t away
-// lies behind c·t·|u_a|/L_a walls normal to each axis a, so the energy
+// The IR ends where the slowest band's tail has fallen by Config.DecayDB
+// (50 dB by default) after the join, so its length follows the room's
+// reverberation time: a hall of RT60 5 s gets about 4.2 s. Config.MaxSeconds
+// caps it (10 s by default, a 50 dB decay of RT60 12 s, far above plant
+// halls; memory and convolution cost grow with it). Only images within
+// c·(join) of the microphone are visited, so a large hall costs a few
+// thousand images instead of millions, plus one FFT per tail band.
+//
+// With Config.Specular the IR is cut where the Schroeder curve predicted
+// for the image lattice has fallen by DecayDB: in direction u an image c·t
+// away lies behind c·t·|u_a|/L_a walls normal to each axis a, so the energy
 // decays at r(u) = c·Σₐ |u_a|·κₐ/Lₐ with κₐ the mean −ln(1 − α) of the pair,
 // and E(t) ∝ ⟨e^(−r(u)·t)⟩ over directions. Its initial rate is Eyring's
 // for uniform walls, but the spread of r(u) makes the tail slower,
-// markedly so in flat rooms, where grazing paths meet few walls (for
-// 10 × 8 × 3 m the simulated T30 is about 1.6 × Eyring, for a cube about
-// 1.1 ×). Only images within c·length of the microphone are visited (about
-// 4π·(c·length)³/(3V) of them, checked against Config.MaxImages before any
-// work), and each is added straight into the output buffer.
+// markedly so in flat rooms (for 10 × 8 × 3 m the simulated T30 is about
+// 1.6 × Eyring, for a cube about 1.1 ×). Images are counted as
+// 4π·(c·length)³/(3V) and checked against Config.MaxImages before any
+// work; each is added straight into the output buffer.
 //
 // # Decay analysis
 //
@@ -85,16 +134,16 @@
 //
 // # Plausibility guard
 //
-// A variant's reverberation is credible when T30 of its IR (or T20 when T30
-// has too little range) lies within the room's declared RT60 range. The
-// inputs are the IR, its sampling rate, and that range; Eyring (or Fitzroy
-// for uneven walls) of the room is the first-order expectation, and a
-// specular simulation in a flat room decays up to ~1.6 × slower than it.
+// A variant's reverberation is credible when T30 of its IR lies within the
+// room's declared RT60 range. The inputs are the IR, its sampling rate,
+// and that range; with the diffuse tail the broadband T30 follows Eyring
+// of the room (or the measured rt60), so a range set around a measured
+// hall's RT60 accepts its variants.
 //
 // # Not modelled
 //
-// Source and microphone directivity, diffuse (scattered) reflections, air
-// absorption (ISO 9613-1 gives 4.66 dB/km at 1 kHz, 20 °C, 50 % RH, i.e.
+// Source and microphone directivity, scattering in the early part, room
+// modes in the tail, air absorption (ISO 9613-1 gives 4.66 dB/km at 1 kHz, 20 °C, 50 % RH, i.e.
 // 1.6 dB per second of decay against 60 dB per RT60 from the walls: a few
 // per cent of T at 1 kHz, more at 4 kHz and above), wall impedance phase,
 // and anything but a rectangular room.

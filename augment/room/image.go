@@ -3,26 +3,41 @@ package room
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 )
 
 // Config controls ImpulseResponse. The zero value is ready to use.
 type Config struct {
-	// MaxSeconds caps the IR length in seconds. Zero means 4 s, enough for
-	// −60 dB in halls up to RT60 ≈ 4 s while bounding the image count in
-	// small live rooms.
+	// MaxSeconds caps the IR length in seconds. Zero means 10 s: the
+	// length follows the room's reverberation time, and 10 s holds a
+	// 50 dB decay of RT60 up to 12 s (well above plant halls, which are
+	// rarely above 5 s) while bounding memory and convolution cost.
 	MaxSeconds float64
 	// DecayDB sets the predicted decay at which the IR is cut: the length is
 	// the direct-path delay plus the time at which the slowest band's
 	// predicted Schroeder curve (see the package documentation) falls by
 	// DecayDB, capped by MaxSeconds. Zero means 50 dB: 15 dB below the
 	// bottom of the T30 range (ISO 3382-1 asks for 10 dB), and far below
-	// audibility under plant noise; the image count grows as the cube of
-	// the length, so 60 dB would cost 1.7× more.
+	// audibility under plant noise.
 	DecayDB float64
 	// MaxImages bounds the number of image sources, estimated before any
-	// work as 4π·dmax³/(3V) with dmax = c·length; a room that needs more is
-	// an error. Zero means 2·10⁷ (about a second of work).
+	// work as 4π·dmax³/(3V) with dmax = c·(the image part's length); a
+	// room that needs more is an error. Zero means 2·10⁷ (about a second
+	// of work).
 	MaxImages int
+	// Specular turns the diffuse tail off: images fill the whole length,
+	// as a purely specular room (flat rooms then ring far longer than
+	// Eyring; see the package documentation). ImpulseResponse needs no
+	// random source then.
+	Specular bool
+	// MixingSeconds is the time after the direct sound's arrival at which
+	// the image part hands over to the diffuse tail. Zero means the room's
+	// MixingTime. The join is moved later, if need be, until every
+	// first-order reflection lies wholly in the image part.
+	MixingSeconds float64
+	// BandsPerOctave sets the diffuse tail's band grid. Zero means 3
+	// (third octaves).
+	BandsPerOctave int
 	// HalfWidth is the half length of each arrival's windowed-sinc kernel,
 	// in samples (2·HalfWidth taps). Zero means 16.
 	HalfWidth int
@@ -34,12 +49,19 @@ type Config struct {
 }
 
 func (c Config) withDefaults() (Config, error) {
-	if c.MaxSeconds < 0 || c.DecayDB < 0 || c.MaxImages < 0 || c.HalfWidth < 0 ||
-		math.IsNaN(c.MaxSeconds) || math.IsNaN(c.DecayDB) || math.IsInf(c.MaxSeconds, 0) || math.IsInf(c.DecayDB, 0) {
+	if c.MaxSeconds < 0 || c.DecayDB < 0 || c.MaxImages < 0 || c.HalfWidth < 0 || c.MixingSeconds < 0 || c.BandsPerOctave < 0 ||
+		math.IsNaN(c.MaxSeconds) || math.IsNaN(c.DecayDB) || math.IsInf(c.MaxSeconds, 0) || math.IsInf(c.DecayDB, 0) ||
+		math.IsNaN(c.MixingSeconds) || math.IsInf(c.MixingSeconds, 0) {
 		return c, fmt.Errorf("room: config %+v: fields must be finite and ≥ 0", c)
 	}
 	if c.MaxSeconds == 0 {
-		c.MaxSeconds = 4
+		c.MaxSeconds = 10
+	}
+	if c.BandsPerOctave == 0 {
+		c.BandsPerOctave = 3
+	}
+	if c.BandsPerOctave > 24 {
+		return c, fmt.Errorf("room: %d bands per octave, at most 24", c.BandsPerOctave)
 	}
 	if c.DecayDB == 0 {
 		c.DecayDB = 50
@@ -73,16 +95,22 @@ const (
 // below 1e-5).
 const phases = 256
 
-// ImpulseResponse returns the image-method impulse response (Allen & Berkley
-// 1979) from a point source at src to an omnidirectional microphone at mic
-// (metres, strictly inside the room), sampled at fs Hz, as sound pressure per
-// unit source strength: each image contributes gain/(4π·d) at delay d/c,
-// placed by a Hann-windowed sinc at its exact arrival time (Peterson 1986).
-// See the package documentation for the model and the length rule.
+// ImpulseResponse returns the impulse response from a point source at src
+// to an omnidirectional microphone at mic (metres, strictly inside the
+// room), sampled at fs Hz, as sound pressure per unit source strength.
+// Up to the join (the mixing time after the direct sound) it is the image
+// method (Allen & Berkley 1979): each image contributes gain/(4π·d) at
+// delay d/c, placed by a Hann-windowed sinc at its exact arrival time
+// (Peterson 1986). After the join it is a diffuse tail: noise drawn from
+// rng, decaying per band at the room's reverberation time (RT60At) from
+// the energy the image lattice has at the join (Lehmann & Johansson
+// 2010). With cfg.Specular the images fill the whole length and rng may be
+// nil. See the package documentation for the model and the length rule.
 //
 // dst is reused when its capacity suffices; nil allocates. The length of the
-// result is the IR length.
-func ImpulseResponse(dst []float64, r Room, src, mic [3]float64, fs float64, cfg Config) ([]float64, error) {
+// result is the IR length. The same inputs and rng state give the same
+// samples.
+func ImpulseResponse(dst []float64, r Room, src, mic [3]float64, fs float64, cfg Config, rng *rand.Rand) ([]float64, error) {
 	if err := r.Validate(); err != nil {
 		return nil, err
 	}
@@ -102,6 +130,9 @@ func ImpulseResponse(dst []float64, r Room, src, mic [3]float64, fs float64, cfg
 	if !r.Inside(mic) {
 		return nil, fmt.Errorf("room: microphone %v outside room %v", mic, r.Size)
 	}
+	if !cfg.Specular && rng == nil {
+		return nil, fmt.Errorf("room: the diffuse tail needs a random source (or Config.Specular)")
+	}
 	d0 := math.Sqrt(sq(src[0]-mic[0]) + sq(src[1]-mic[1]) + sq(src[2]-mic[2]))
 	if d0 < MinDistance {
 		return nil, fmt.Errorf("room: source–microphone distance %g m below %g m", d0, MinDistance)
@@ -118,9 +149,25 @@ func ImpulseResponse(dst []float64, r Room, src, mic [3]float64, fs float64, cfg
 			alphas = append(alphas, r.Octave[hz])
 		}
 	}
-	seconds := d0/c + specularDecayTime(r.Size, alphas, c, cfg.DecayDB, cfg.MaxSeconds)
-	seconds = math.Min(seconds, cfg.MaxSeconds)
 	w := cfg.HalfWidth
+	var seconds, join float64 // join: start of the tail, s
+	var tail []float64        // the tail's band centres
+	if cfg.Specular {
+		seconds = d0/c + specularDecayTime(r.Size, alphas, c, cfg.DecayDB, cfg.MaxSeconds)
+	} else {
+		mix := cfg.MixingSeconds
+		if mix == 0 {
+			mix = r.MixingTime()
+		}
+		join = math.Max(d0/c+mix, lastFirstOrder(r, src, mic)/c+float64(w+1)/fs)
+		tail = tailBands(cfg.BandsPerOctave, fs)
+		slowest := 0.0
+		for _, f := range tail {
+			slowest = math.Max(slowest, r.RT60At(f))
+		}
+		seconds = join + slowest*cfg.DecayDB/60
+	}
+	seconds = math.Min(seconds, cfg.MaxSeconds)
 	n := int(math.Ceil(seconds * fs))
 	tDirect := d0 / c * fs
 	if float64(n-w-1) < tDirect {
@@ -128,9 +175,12 @@ func ImpulseResponse(dst []float64, r Room, src, mic [3]float64, fs float64, cfg
 	}
 	// An arrival at sample t writes taps up to floor(t)+w, so keep t < n−w−1.
 	dmax := c * float64(n-w-1) / fs
+	if !cfg.Specular {
+		dmax = math.Min(dmax, c*join)
+	}
 	if est := 4 * math.Pi * dmax * dmax * dmax / (3 * r.Volume()); est > float64(cfg.MaxImages) {
 		return nil, fmt.Errorf("room: %.3g image sources needed for a %.3g s IR, limit %d (lower MaxSeconds or raise MaxImages)",
-			est, seconds, cfg.MaxImages)
+			est, dmax/c, cfg.MaxImages)
 	}
 
 	nb := len(alphas)
@@ -147,10 +197,24 @@ func ImpulseResponse(dst []float64, r Room, src, mic [3]float64, fs float64, cfg
 	for a := range axes {
 		axes[a] = newAxis(a, r.Size[a], src[a], mic[a], dmax, alphas)
 	}
-	accumulate(bufs, &axes, dmax, fs/c, w)
+	table := kernelTable(w)
+	accumulate(bufs, &axes, dmax, fs/c, w, table)
 	if nb > 1 {
 		dst = resize(dst, n)
 		combineBands(dst, bufs, centres, fs)
+	}
+	if start := int(math.Ceil(join * fs)); !cfg.Specular && start < n {
+		// Energy per sample of the image part at the join, per band:
+		// c/(4π·V·fs) images' worth of squared gain, the lattice's mean
+		// squared gain there, times the kernel's energy.
+		k := c / (4 * math.Pi * r.Volume() * fs) * kernelEnergy(table, w)
+		level := make([]float64, len(tail))
+		t60 := make([]float64, len(tail))
+		for b, f := range tail {
+			level[b] = k * latticeEnergy(r.Size, r.AbsorptionAt(f), c, float64(start)/fs)
+			t60[b] = r.RT60At(f)
+		}
+		addTail(dst, start, tail, level, t60, fs, rng)
 	}
 	if cfg.HighPassHz > 0 {
 		highPass(dst, cfg.HighPassHz, fs)
@@ -166,6 +230,20 @@ func ImpulseResponse(dst []float64, r Room, src, mic [3]float64, fs float64, cfg
 		}
 	}
 	return dst, nil
+}
+
+// lastFirstOrder returns the path length of the latest first-order
+// reflection, m: the image of src in each of the six walls.
+func lastFirstOrder(r Room, src, mic [3]float64) float64 {
+	far := 0.0
+	for a := 0; a < 3; a++ {
+		for _, wall := range []float64{0, r.Size[a]} {
+			img := src
+			img[a] = 2*wall - src[a]
+			far = math.Max(far, math.Sqrt(sq(img[0]-mic[0])+sq(img[1]-mic[1])+sq(img[2]-mic[2])))
+		}
+	}
+	return far
 }
 
 // highPass filters x in place with a second-order Butterworth high-pass
@@ -253,11 +331,10 @@ func abs(n int) int {
 // accumulate adds every image within dmax except the source itself (the
 // direct path) into bufs (one per band). First-order arrivals get an
 // exactly evaluated kernel; the rest interpolate the phase table.
-func accumulate(bufs [][]float64, axes *[3]axis, dmax, samplesPerMetre float64, w int) {
+func accumulate(bufs [][]float64, axes *[3]axis, dmax, samplesPerMetre float64, w int, table []float64) {
 	nb := len(bufs)
 	n := len(bufs[0])
 	taps := 2 * w
-	table := kernelTable(w)
 	k := make([]float64, taps)
 	g := make([]float64, nb)
 	dmax2 := dmax * dmax

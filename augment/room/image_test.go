@@ -2,6 +2,7 @@ package room
 
 import (
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 )
@@ -47,7 +48,7 @@ func TestDirectPath(t *testing.T) {
 		{"half sample", [3]float64{10 + (150.5/fs)*c, 10, 10}},
 	} {
 		src := [3]float64{10, 10, 10}
-		h, err := ImpulseResponse(nil, r, src, tc.mic, fs, Config{})
+		h, err := ImpulseResponse(nil, r, src, tc.mic, fs, Config{}, tailRand(1))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -104,7 +105,7 @@ func TestFirstOrderImage(t *testing.T) {
 	// high-pass turns the arrival into b0·δ minus a slow tail of unit area,
 	// so there only the peak is checked (b0 = 1 − 0.6 % at 16 kHz).
 	for _, hp := range []float64{-1, 0} {
-		h, err := ImpulseResponse(nil, r, src, mic, fs, Config{HighPassHz: hp})
+		h, err := ImpulseResponse(nil, r, src, mic, fs, Config{HighPassHz: hp}, tailRand(1))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -208,7 +209,7 @@ func TestDecayMatchesTheory(t *testing.T) {
 			for a := range src {
 				src[a], mic[a] = p[0][a]*tc.size[a], p[1][a]*tc.size[a]
 			}
-			h, err := ImpulseResponse(nil, r, src, mic, fs, Config{})
+			h, err := ImpulseResponse(nil, r, src, mic, fs, Config{Specular: true}, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -255,12 +256,12 @@ func TestOctaveConsistency(t *testing.T) {
 	}
 	src, mic := [3]float64{1.2, 2.3, 1.1}, [3]float64{4.1, 1.7, 1.9}
 	r := Room{Size: [3]float64{6, 5, 4}, Absorption: alpha, TemperatureC: 20}
-	want, err := ImpulseResponse(nil, r, src, mic, fs, Config{})
+	want, err := ImpulseResponse(nil, r, src, mic, fs, Config{}, tailRand(2))
 	if err != nil {
 		t.Fatal(err)
 	}
 	r.Octave = oct
-	got, err := ImpulseResponse(nil, r, src, mic, fs, Config{})
+	got, err := ImpulseResponse(nil, r, src, mic, fs, Config{}, tailRand(2))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -281,7 +282,7 @@ func TestOctaveConsistency(t *testing.T) {
 	// IR filtered to the 125 Hz and 4 kHz bands with the same weights.
 	r.Octave = map[int][6]float64{125: uniform(0.2), 250: uniform(0.3), 500: uniform(0.4),
 		1000: uniform(0.5), 2000: uniform(0.6), 4000: uniform(0.7)}
-	h, err := ImpulseResponse(nil, r, src, mic, fs, Config{})
+	h, err := ImpulseResponse(nil, r, src, mic, fs, Config{}, tailRand(3))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -328,9 +329,13 @@ func TestImpulseResponseErrors(t *testing.T) {
 		{"high-pass above Nyquist", good, src, mic, 16000, Config{HighPassHz: 9000}, "Nyquist"},
 		{"too short", good, src, mic, 16000, Config{MaxSeconds: 0.001}, "direct path"},
 		{"too many images", Room{Size: [3]float64{2, 2, 2}, Absorption: uniform(0.01), TemperatureC: 20},
-			[3]float64{0.5, 0.5, 0.5}, [3]float64{1.5, 1.2, 1.1}, 16000, Config{MaxSeconds: 3}, "image sources"},
+			[3]float64{0.5, 0.5, 0.5}, [3]float64{1.5, 1.2, 1.1}, 16000, Config{MaxSeconds: 3, Specular: true}, "image sources"},
+		{"bad mixing time", good, src, mic, 16000, Config{MixingSeconds: math.NaN()}, "config"},
+		{"too many bands", good, src, mic, 16000, Config{BandsPerOctave: 25}, "bands per octave"},
+		{"bad rt60", Room{Size: [3]float64{5, 4, 3}, Absorption: uniform(0.3), RT60: map[int]float64{1000: 0}, TemperatureC: 20}, src, mic, 16000, Config{}, "rt60[1000]"},
+		{"rt60 band", Room{Size: [3]float64{5, 4, 3}, Absorption: uniform(0.3), RT60: map[int]float64{3000: 1}, TemperatureC: 20}, src, mic, 16000, Config{}, "rt60 band"},
 	} {
-		_, err := ImpulseResponse(nil, tc.r, tc.src, tc.mic, tc.fs, tc.cfg)
+		_, err := ImpulseResponse(nil, tc.r, tc.src, tc.mic, tc.fs, tc.cfg, tailRand(1))
 		if err == nil || !strings.Contains(err.Error(), tc.want) || !strings.HasPrefix(err.Error(), "room: ") {
 			t.Errorf("%s: error %v, want one mentioning %q", tc.name, err, tc.want)
 		}
@@ -341,7 +346,7 @@ func TestImpulseResponseLengthAndReuse(t *testing.T) {
 	const fs = 8000.0
 	r := Room{Size: [3]float64{7, 6, 5}, Absorption: uniform(0.3), TemperatureC: 20}
 	src, mic := [3]float64{1.5, 2, 1.2}, [3]float64{5, 4, 1.6}
-	h, err := ImpulseResponse(nil, r, src, mic, fs, Config{})
+	h, err := ImpulseResponse(nil, r, src, mic, fs, Config{}, tailRand(4))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -359,7 +364,7 @@ func TestImpulseResponseLengthAndReuse(t *testing.T) {
 	if _, err := T30(h, fs); err != nil {
 		t.Errorf("T30 of a default-length IR: %v", err)
 	}
-	capped, err := ImpulseResponse(nil, r, src, mic, fs, Config{MaxSeconds: 0.1})
+	capped, err := ImpulseResponse(nil, r, src, mic, fs, Config{MaxSeconds: 0.1}, tailRand(4))
 	if err != nil || len(capped) != 800 {
 		t.Errorf("MaxSeconds 0.1: %d samples, %v", len(capped), err)
 	}
@@ -368,7 +373,7 @@ func TestImpulseResponseLengthAndReuse(t *testing.T) {
 	for i := range dst {
 		dst[i] = 1
 	}
-	again, err := ImpulseResponse(dst, r, src, mic, fs, Config{})
+	again, err := ImpulseResponse(dst, r, src, mic, fs, Config{}, tailRand(4))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -381,3 +386,6 @@ func TestImpulseResponseLengthAndReuse(t *testing.T) {
 		}
 	}
 }
+
+// tailRand is the random source of a test's diffuse tail.
+func tailRand(seed uint64) *rand.Rand { return rand.New(rand.NewPCG(seed, 7)) }

@@ -21,6 +21,12 @@ const (
 // Room.Octave.
 func OctaveBands() [6]int { return [6]int{125, 250, 500, 1000, 2000, 4000} }
 
+// Limits of a measured RT60 accepted by Validate, s.
+const (
+	MinRT60 = 0.05
+	MaxRT60 = 30.0
+)
+
 // Temperature limits accepted by Validate, °C.
 const (
 	MinTemperatureC = -40.0
@@ -40,6 +46,11 @@ type Room struct {
 	// centre in Hz (any non-empty subset of OctaveBands). When present,
 	// ImpulseResponse uses it instead of Absorption.
 	Octave map[int][6]float64
+	// RT60 optionally gives a measured reverberation time per octave band
+	// in seconds, keyed by band centre (any non-empty subset of
+	// OctaveBands). When present, the diffuse tail decays at these times
+	// (interpolated between bands) instead of Eyring's for the walls.
+	RT60 map[int]float64
 	// TemperatureC is the air temperature in °C. The zero value is 0 °C
 	// (c = 331.3 m/s), not the usual 20 °C: set it explicitly.
 	TemperatureC float64
@@ -52,7 +63,8 @@ func SpeedOfSound(tempC float64) float64 {
 }
 
 // Validate reports whether the room is usable: finite sizes > 0, every α
-// (broadband and per band) finite with 0 ≤ α < 1, band keys from OctaveBands, and
+// (broadband and per band) finite with 0 ≤ α < 1, band keys from OctaveBands,
+// every RT60 within MinRT60 … MaxRT60, and
 // MinTemperatureC ≤ TemperatureC ≤ MaxTemperatureC.
 func (r Room) Validate() error {
 	for i, s := range r.Size {
@@ -69,6 +81,14 @@ func (r Room) Validate() error {
 		}
 		if err := checkAlpha(fmt.Sprintf("octave[%d]", hz), a); err != nil {
 			return err
+		}
+	}
+	for hz, t := range r.RT60 {
+		if !isBand(hz) {
+			return fmt.Errorf("room: rt60 band %d Hz, want one of %v", hz, OctaveBands())
+		}
+		if !(t >= MinRT60 && t <= MaxRT60) {
+			return fmt.Errorf("room: rt60[%d] = %g s, want %g … %g s", hz, t, MinRT60, MaxRT60)
 		}
 	}
 	t := r.TemperatureC
