@@ -6,7 +6,6 @@ import (
 	"testing"
 
 	"thrum/machine"
-	"thrum/split"
 )
 
 func testRecipe() *machine.Recipe {
@@ -155,9 +154,9 @@ func TestNonphysicalStepsAreMarked(t *testing.T) {
 // A variant's speed steps are guarded in total: two steps of +1.5…2 % in a
 // ±2.5 % band multiply to 1.030…1.040 as drawn, but the applied total stays
 // in the band; with a hold-out condition at 1.035 × rpm (± 1 %) the total
-// also stays out of that band, as the split stage's own check
-// (split.Policy.HoldOutBand) sees it, so the split never refuses the
-// variant. Every step and the total pass the credibility guard, totals are
+// also stays out of that band (the split stage refuses a training file
+// whose rpm lies in [lo, hi] of a hold-out condition's band), so the split
+// never refuses the variant. Every step and the total pass the credibility guard, totals are
 // multiples of 0.001, and the steps' ratios multiply to the total.
 func TestTotalSpeedGuarded(t *testing.T) {
 	r := &machine.Recipe{ID: "twice", Variants: 1, MinSteps: 3, MaxSteps: 3, Steps: []machine.Step{
@@ -167,10 +166,6 @@ func TestTotalSpeedGuarded(t *testing.T) {
 	}}
 	c := &machine.Condition{Name: "duty", RPM: 1500, BandPercent: 2.5}
 	hold := machine.Condition{Name: "fast", RPM: 1.035 * 1500, BandPercent: 1, HoldOut: true}
-	policy := split.Policy{Conditions: []split.ConditionPolicy{
-		{Machine: "m", Name: c.Name, RPM: c.RPM, BandPercent: c.BandPercent},
-		{Machine: "m", Name: hold.Name, RPM: hold.RPM, BandPercent: hold.BandPercent, HoldOut: true},
-	}}
 	hlo, hhi := hold.Band()
 	for _, tc := range []struct {
 		name    string
@@ -180,7 +175,11 @@ func TestTotalSpeedGuarded(t *testing.T) {
 		{"band only", nil, 1.025},
 		{"hold-out at 1.035 × rpm", [][2]float64{{hlo, hhi}}, hlo / c.RPM},
 	} {
-		se := stepEnv{env: &env{holdOut: tc.holdOut}, cond: c}
+		m := &machine.Machine{ID: "m", Conditions: []machine.Condition{*c}}
+		if tc.holdOut != nil {
+			m.Conditions = append(m.Conditions, hold)
+		}
+		se := stepEnv{env: &env{m: m}, cond: c}
 		for seed := uint64(0); seed < 300; seed++ {
 			drawn, err := Draw(r, NewRand(seed), DrawContext{Condition: c, HoldOutBands: tc.holdOut})
 			if err != nil {
@@ -197,8 +196,8 @@ func TestTotalSpeedGuarded(t *testing.T) {
 			if k := total * 1000; math.Abs(k-math.Round(k)) > 1e-6 {
 				t.Errorf("%s, seed %d: total %v is not a multiple of 0.001", tc.name, seed, total)
 			}
-			if h, in := policy.HoldOutBand("m", c.RPM*total); in && tc.holdOut != nil {
-				t.Errorf("%s, seed %d: total %v puts the clip at %v rpm in hold-out %s's band", tc.name, seed, total, c.RPM*total, h.Name)
+			if rpm := c.RPM * total; tc.holdOut != nil && rpm >= hlo && rpm <= hhi {
+				t.Errorf("%s, seed %d: total %v puts the clip at %v rpm in hold-out %s's band", tc.name, seed, total, rpm, hold.Name)
 			}
 			prod := 1.0
 			for _, d := range drawn {
