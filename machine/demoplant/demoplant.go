@@ -147,11 +147,13 @@ type take struct {
 }
 
 // plan lists the files of the plant, in a fixed order. Every condition
-// that can be split gets six normal split groups, so that the stable hash
-// of each group fills train, eval and test: take-01 … take-06 at near, far
-// and mid distances in turn; a hold-out condition, which goes to test whole,
-// gets two takes. The conveyor at full speed has a second visit instead of
-// take-06: a session folder with two takes (one group).
+// that can be split gets six normal split groups, so that the shares
+// 0.6/0.2/0.2 deal them 4/1/1 (and "stable-hash" would still fill train,
+// eval and test): take-01 … take-06 at near, far and mid distances in
+// turn; a hold-out condition, which goes to test whole, gets two takes. The
+// conveyor at full speed has a second visit instead of take-06: a session
+// folder with two takes (one group). The pump's duty condition has two
+// anomalous recordings, so eval and test each get one.
 func plan(p *machine.Plant) ([]take, error) {
 	var out []take
 	dists := []int{near, far, mid}

@@ -213,9 +213,8 @@ func TestLayout(t *testing.T) {
 	if len(inv.Recordings) != 35 || sessions != 2 || anomalous != 2 {
 		t.Errorf("inventory: %d recordings, %d in the session, %d anomalous; want 35, 2, 2", len(inv.Recordings), sessions, anomalous)
 	}
-	// Enough split groups: six per condition, so that the stable group
-	// hash fills train, eval and test; two for the held-out condition,
-	// which goes to test.
+	// Enough split groups: six per condition, so that every split gets
+	// one; two for the held-out condition, which goes to test.
 	for _, m := range p.Machines {
 		for _, c := range m.Conditions {
 			want := 6
