@@ -81,6 +81,7 @@ type Problem struct {
 	Condition string `json:"condition,omitempty"`
 	Path      string `json:"path,omitempty"`
 	// Kind is one of unreadable, rate-mismatch, no-recordings, short,
+	// duplicate (the same content as an earlier recording of the machine),
 	// unknown-folder, warning, and the sample problems non-finite,
 	// absurd-sample and silent (see SampleError).
 	Kind string `json:"kind"`
@@ -143,11 +144,21 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 		if len(want) > 0 && !want[m.ID] {
 			continue
 		}
+		// first recording of the machine with each content hash: a second
+		// one (a copy, a hard or symbolic link) would be a second split
+		// group of the same sound, a leak across the split boundary
+		seen := map[string]string{}
 		for j := range m.Conditions {
 			c := &m.Conditions[j]
 			dir := filepath.Join(root, m.ID, c.Name)
 			files, err := wavFiles(dir)
-			if err != nil || len(files) == 0 {
+			if err != nil && !errors.Is(err, fs.ErrNotExist) {
+				// an unreadable folder is named with its cause, not taken
+				// for an empty one
+				inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Kind: "unreadable", Msg: fmt.Sprintf("condition folder %s: %v; its recordings are not used", filepath.ToSlash(filepath.Join(m.ID, c.Name)), err)})
+				continue
+			}
+			if len(files) == 0 {
 				inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Kind: "no-recordings", Msg: "condition has no recordings (" + filepath.ToSlash(filepath.Join(m.ID, c.Name)) + "/*.wav)"})
 				continue
 			}
@@ -158,6 +169,14 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 				rec, err := inv.scanOne(ctx, p, m, c, root, f, opt.Levels)
 				if err != nil {
 					return nil, err
+				}
+				if rec != nil && rec.Err == nil && rec.SHA256 != "" {
+					if first, ok := seen[rec.SHA256]; ok {
+						rec.Err = fmt.Errorf("same content (sha256 %s) as %s", rec.SHA256, first)
+						inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: rec.Rel, Kind: "duplicate", Msg: fmt.Sprintf("%v; not used", rec.Err)})
+					} else {
+						seen[rec.SHA256] = rec.Rel
+					}
 				}
 				if rec != nil {
 					inv.Recordings = append(inv.Recordings, rec)
