@@ -17,6 +17,7 @@ import (
 	"os/exec"
 	"path"
 	"path/filepath"
+	"sort"
 	"strings"
 	"syscall"
 	"testing"
@@ -112,7 +113,7 @@ recipe = "mix"
 
 // The file most per-file cases replace, and the takes of the plant.
 const (
-	hostileBad  = "pump-a1/duty/take-01.wav"
+	hostileBad  = "pump-a1/duty/take-03.wav"
 	hostileRate = 8000
 )
 
@@ -1170,8 +1171,10 @@ func TestHostileOut(t *testing.T) {
 				if len(h.stale) < 8 {
 					t.Fatalf("%d second variants, want at least 8", len(h.stale))
 				}
+				sort.Strings(h.stale)
+				h.vars = map[string]string{"v01": h.stale[0]}
 				h.edit(t, "variants = 2", "variants = 1")
-			}, want: []string{"pump-a1/duty/augmented/take-01-c0001-v01.wav"}},
+			}, want: []string{"expand: moved {v01} to {out}/.stale/"}},
 		{name: "outputs of remainder pad then drop", perFile: true, args: expandArgs,
 			stale: []string{"pump-a1/duty/recorded/take-04-c0002.wav", "pump-a1/duty/augmented/take-04-c0002-v00.wav"},
 			setup: func(t *testing.T, h *hplant) {
