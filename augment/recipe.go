@@ -13,6 +13,17 @@ import (
 // VariantSeed derives a variant's seed from the plant seed, the machine id,
 // the source recording's content hash, the clip index and the variant index,
 // so that an output never depends on worker count, order or shard.
+//
+// The seed is the first 8 bytes, read little-endian, of the SHA-256 of the
+// byte string
+//
+//	plantSeed as 8 bytes little-endian
+//	0x00 machineID 0x00 sourceSHA 0x00 clip 0x00 variant 0x00 purpose
+//
+// where clip and variant are written in decimal ASCII (a leading '-' when
+// negative) and the strings are their UTF-8 bytes, with no terminator after
+// purpose. The byte string is a stability promise: changing it changes
+// every variant of every plant.
 func VariantSeed(plantSeed uint64, machineID, sourceSHA string, clip, variant int, purpose string) uint64 {
 	h := sha256.New()
 	var b [8]byte

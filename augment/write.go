@@ -45,6 +45,11 @@ func (e *env) base(r *machine.Recording, c machine.Clip) ledger.Entry {
 	}
 }
 
+// drawHash is the ledger's draw field: the first 8 bytes, as 16 lower-case
+// hex digits, of the SHA-256 of the steps' JSON encoding (encoding/json of
+// the []ledger.StepRecord: a JSON array of objects with the fields in
+// struct order, empty ones omitted, map keys sorted, no spaces, no trailing
+// newline).
 func drawHash(steps []ledger.StepRecord) string {
 	b, _ := json.Marshal(steps)
 	s := sha256.Sum256(b)

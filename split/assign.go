@@ -188,10 +188,17 @@ func (p Policy) HoldOutBand(machineID, cond string, rpm float64) (ConditionPolic
 }
 
 // Unit returns the stable hash of (seed, kind, machine id, key) mapped to
-// [0, 1): the first 8 bytes of SHA-256 over "thrum/split/v1", the seed
-// (8 bytes little-endian) and the three strings, each NUL-terminated, read
-// big-endian, top 53 bits divided by 2^53. It depends on nothing else, so
-// adding groups never moves existing ones.
+// [0, 1). It depends on nothing else, so adding groups never moves existing
+// ones. The hash is SHA-256 of the byte string
+//
+//	"thrum/split/v1" 0x00
+//	seed as 8 bytes little-endian
+//	kind 0x00 machineID 0x00 key 0x00
+//
+// (the strings as their UTF-8 bytes, each followed by one NUL); its first
+// 8 bytes read as a big-endian uint64, shifted right by 11 (the top 53
+// bits), divided by 2^53. The byte string is a stability promise: changing
+// it moves groups between train, eval and test.
 func Unit(seed uint64, kind, machineID, key string) float64 {
 	h := sha256.New()
 	h.Write([]byte("thrum/split/v1\x00"))
