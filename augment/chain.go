@@ -81,22 +81,21 @@ func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, 
 	}
 	plans := &Plans{}
 	pc := &powerCache{m: make(map[[2]int]float64)}
-	// One failed file does not stop the others: its error is kept in errs
-	// and reported with the rest at the end.
-	errs := make([]error, len(paths))
-	done := make([]int64, len(paths)) // input frames of each written file
-	written := make([]bool, len(paths))
+	// One failed file does not stop the others: its error is kept and
+	// reported with the rest at the end; a written file counts its input
+	// frames.
+	batch := pool.NewBatch(len(paths))
 	ws := make([]chainWorker, pool.Size(o.Workers))
 	err = pool.Each(ctx, len(paths), o.Workers, func(ctx context.Context, w, i int) error {
 		cw := &ws[w]
 		if err := machine.CheckRegular(paths[i]); err != nil {
-			errs[i] = fmt.Errorf("augment: chain: %s: %w", paths[i], err)
+			batch.Fail(i, fmt.Errorf("augment: chain: %s: %w", paths[i], err))
 			return nil
 		}
 		y, rate, n, err := cw.st.run(&o, i, paths[i], plans, reverb, bg, bgRate, pc, cw.spare)
 		if err != nil {
 			cw.spare = y
-			errs[i] = fmt.Errorf("augment: chain: %s: %w", paths[i], err)
+			batch.Fail(i, fmt.Errorf("augment: chain: %s: %w", paths[i], err))
 			return nil
 		}
 		// The worker computes its next clip while this one is written:
@@ -108,26 +107,17 @@ func ChainFolder(ctx context.Context, o ChainOptions) (files int, frames int64, 
 		go func() {
 			defer close(fin)
 			if err := wavio.WriteFile(out, y, rate, 1, enc); err != nil {
-				errs[i] = fmt.Errorf("augment: chain: %s: %w", paths[i], err)
+				batch.Fail(i, fmt.Errorf("augment: chain: %s: %w", paths[i], err))
 				return
 			}
-			done[i], written[i] = n, true
+			batch.Done(i, n)
 		}()
 		return nil
 	})
 	for w := range ws {
 		ws[w].wait()
 	}
-	for i := range paths {
-		if written[i] {
-			files++
-			frames += done[i]
-		}
-	}
-	if err != nil {
-		return files, frames, err
-	}
-	return files, frames, pool.Collect(errs)
+	return batch.Result(err)
 }
 
 // chainWorker is one pool worker's state: its buffers and the write it

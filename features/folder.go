@@ -46,11 +46,10 @@ func FolderLogMel(ctx context.Context, in, out string, cfg Config, workers int) 
 		buf  []byte
 	}
 	ws := make([]folderWorker, pool.Size(workers))
-	// One bad file does not stop the others: its error is kept in errs,
-	// and its .npy is not written (nor one left from an earlier run).
-	errs := make([]error, len(paths))
-	done := make([]int, len(paths))
-	written := make([]bool, len(paths))
+	// One bad file does not stop the others: its error is kept, and its
+	// .npy is not written (nor one left from an earlier run); a written
+	// file counts its frames.
+	batch := pool.NewBatch(len(paths))
 	err = pool.Each(ctx, len(paths), workers, func(ctx context.Context, w, i int) error {
 		fw := &ws[w]
 		name := strings.TrimSuffix(filepath.Base(paths[i]), filepath.Ext(paths[i])) + ".npy"
@@ -84,22 +83,14 @@ func FolderLogMel(ctx context.Context, in, out string, cfg Config, workers int) 
 			if rerr := os.Remove(dst); rerr != nil && !errors.Is(rerr, fs.ErrNotExist) {
 				err = fmt.Errorf("%w (and an earlier %s could not be removed: %v)", err, name, rerr)
 			}
-			errs[i] = fmt.Errorf("features: %s: %w", paths[i], err)
+			batch.Fail(i, fmt.Errorf("features: %s: %w", paths[i], err))
 			return nil
 		}
-		done[i], written[i] = n, true
+		batch.Done(i, int64(n))
 		return nil
 	})
-	for i := range paths {
-		if written[i] {
-			files++
-			frames += done[i]
-		}
-	}
-	if err != nil {
-		return files, frames, err
-	}
-	return files, frames, pool.Collect(errs)
+	files, total, err := batch.Result(err)
+	return files, int(total), err
 }
 
 // readMono reads a whole file as mono samples, reusing dst.

@@ -156,3 +156,45 @@ func TestOrderedProduceErrorAndCancel(t *testing.T) {
 		t.Fatalf("cancelled before start: err = %v", err)
 	}
 }
+
+func TestBatchResult(t *testing.T) {
+	bad := errors.New("bad file")
+	for _, c := range []struct {
+		name       string
+		fail, done map[int]int64 // item → amount (fail: ignored)
+		runErr     error
+		items      int
+		amount     int64
+		failed     int // number of item errors in the *Failed, -1 for runErr
+	}{
+		{"all done", nil, map[int]int64{0: 10, 1: 20, 2: 5}, nil, 3, 35, 0},
+		{"one failed", map[int]int64{1: 0}, map[int]int64{0: 10, 2: 5}, nil, 2, 15, 1},
+		{"cancelled", map[int]int64{1: 0}, map[int]int64{0: 10}, context.Canceled, 1, 10, -1},
+		{"none done", map[int]int64{0: 0, 1: 0, 2: 0}, nil, nil, 0, 0, 3},
+	} {
+		b := NewBatch(3)
+		for i := range c.fail {
+			b.Fail(i, bad)
+		}
+		for i, n := range c.done {
+			b.Done(i, n)
+		}
+		items, amount, err := b.Result(c.runErr)
+		if items != c.items || amount != c.amount {
+			t.Errorf("%s: %d items, amount %d; want %d, %d", c.name, items, amount, c.items, c.amount)
+		}
+		var f *Failed
+		switch {
+		case c.failed == -1:
+			if err != c.runErr {
+				t.Errorf("%s: error %v, want the run's %v", c.name, err, c.runErr)
+			}
+		case c.failed == 0:
+			if err != nil {
+				t.Errorf("%s: error %v, want nil", c.name, err)
+			}
+		case !errors.As(err, &f) || len(f.Errs) != c.failed || f.Total != 3 || !errors.Is(err, bad):
+			t.Errorf("%s: error %v, want a *Failed with %d of 3", c.name, err, c.failed)
+		}
+	}
+}

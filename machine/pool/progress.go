@@ -98,3 +98,42 @@ func Collect(errs []error) error {
 	}
 	return f
 }
+
+// Batch records the outcome of each item of a batch in which one item's
+// failure does not stop the others (the folder commands): Fail keeps a
+// failed item's error, Done a finished item's amount of work (frames, say).
+// Each item is one index, so workers, and goroutines they start, record
+// their own items without locking; Result is read after they all finish.
+type Batch struct {
+	errs   []error
+	amount []int64
+	done   []bool
+}
+
+// NewBatch returns the record of a batch of n items.
+func NewBatch(n int) *Batch {
+	return &Batch{errs: make([]error, n), amount: make([]int64, n), done: make([]bool, n)}
+}
+
+// Fail records item i's error.
+func (b *Batch) Fail(i int, err error) { b.errs[i] = err }
+
+// Done records that item i finished with the given amount of work.
+func (b *Batch) Done(i int, amount int64) { b.amount[i], b.done[i] = amount, true }
+
+// Result returns how many items are done and the sum of their amounts,
+// with runErr when it is not nil (the pool's own error: cancellation or a
+// fatal failure), else the failed items' errors collected by Collect (nil
+// when none failed).
+func (b *Batch) Result(runErr error) (items int, amount int64, err error) {
+	for i, ok := range b.done {
+		if ok {
+			items++
+			amount += b.amount[i]
+		}
+	}
+	if runErr != nil {
+		return items, amount, runErr
+	}
+	return items, amount, Collect(b.errs)
+}
