@@ -39,7 +39,7 @@ rewritten.`,
 			if o.Out == "" {
 				return &usageError{fmt.Errorf("--out is required")}
 			}
-			p, err := machine.Load(args[0])
+			p, err := machine.Load(args[0]) // holdOut checks OUT
 			if err != nil {
 				return err
 			}

@@ -53,7 +53,7 @@ type machineReport struct {
 
 func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath string) error {
 	t0 := time.Now()
-	p, err := machine.Load(plantPath)
+	p, err := machine.Load(plantPath) // holdOut checks OUT
 	if err != nil {
 		return err
 	}
@@ -72,11 +72,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	if err != nil {
 		return err
 	}
-	for _, pr := range inv.Problems {
-		fmt.Fprintf(g.stderr, "survey: %s\n", pr)
-	}
-	r := o.renderer(g)
-	opt, err := augmentOptions(inv, o, r)
+	opt, r, err := startAugment(g, inv, o)
 	if err != nil {
 		return err
 	}

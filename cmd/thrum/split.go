@@ -38,7 +38,7 @@ Lists go to DIR/splits/.`,
 			if o.Out == "" {
 				return &usageError{fmt.Errorf("--out is required")}
 			}
-			p, err := machine.Load(args[0])
+			p, err := machine.Load(args[0]) // holdOut checks OUT
 			if err != nil {
 				return err
 			}

@@ -130,6 +130,17 @@ func loadPlant(ctx context.Context, plantPath, out string) (*machine.Inventory, 
 	return machine.Scan(ctx, p, machine.ScanOptions{})
 }
 
+// startAugment prints the scan's problems and returns the stage options of
+// expand and faults with the progress renderer they report to.
+func startAugment(g *globals, inv *machine.Inventory, o stageOptions) (augment.Options, *renderer, error) {
+	for _, pr := range inv.Problems {
+		fmt.Fprintf(g.stderr, "survey: %s\n", pr)
+	}
+	r := o.renderer(g)
+	opt, err := augmentOptions(inv, o, r)
+	return opt, r, err
+}
+
 // augmentOptions translates the flags into the stage options; the
 // training policy comes from the split package.
 func augmentOptions(inv *machine.Inventory, o stageOptions, r *renderer) (augment.Options, error) {
@@ -213,11 +224,7 @@ func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath,
 	if err != nil {
 		return err
 	}
-	for _, pr := range inv.Problems {
-		fmt.Fprintf(g.stderr, "survey: %s\n", pr)
-	}
-	r := o.renderer(g)
-	opt, err := augmentOptions(inv, o, r)
+	opt, r, err := startAugment(g, inv, o)
 	if err != nil {
 		return err
 	}
