@@ -198,39 +198,58 @@ func TestInterruptStopsLongCommands(t *testing.T) {
 		if c.setup != nil {
 			c.setup()
 		}
-		cmd, stdout, stderr := thrumProcess(t, c.args...)
-		done := make(chan struct{})
-		go func() { cmd.Wait(); close(done) }()
-		select {
-		case <-done:
-			t.Errorf("%s finished before the signal (exit %d); the plant is too small\n%s%s", c.name, cmd.ProcessState.ExitCode(), stdout, stderr)
-			continue
-		case <-time.After(c.after):
-		}
-		sent := time.Now()
-		if err := cmd.Process.Signal(syscall.SIGINT); err != nil {
-			t.Fatal(err)
-		}
-		select {
-		case <-done:
-		case <-time.After(30 * time.Second):
-			cmd.Process.Kill()
-			<-done
-		}
-		took := time.Since(sent)
-		t.Logf("%s: stopped %v after SIGINT", c.name, took.Round(time.Millisecond))
-		// A behaviour bound, not a speed measurement: Ctrl-C must stop the
-		// command promptly (issue: it used to run to the end).
-		if took > time.Second {
-			t.Errorf("%s: exited %v after SIGINT, want within 1 s", c.name, took.Round(time.Millisecond))
-		}
-		if code := cmd.ProcessState.ExitCode(); code != exitInterrupted {
-			t.Errorf("%s: exit code %d after SIGINT, want %d\nstderr: %s", c.name, code, exitInterrupted, stderr)
-		}
-		if !strings.Contains(stderr.String(), "interrupted") {
-			t.Errorf("%s: stderr does not say it was interrupted: %s", c.name, stderr)
+		// One retry when the first attempt overruns the bound: the suite
+		// shares two cores with other test binaries, and a stall of the
+		// whole machine is not the command ignoring the signal.
+		for attempt := 1; attempt <= 2; attempt++ {
+			took, ok := interruptOnce(t, c.name, c.args, c.after)
+			if !ok || took <= time.Second {
+				break
+			}
+			if attempt == 2 {
+				t.Errorf("%s: exited %v after SIGINT (twice), want within 1 s", c.name, took.Round(time.Millisecond))
+			}
 		}
 	}
+}
+
+// interruptOnce starts thrum with args, sends SIGINT after the given delay
+// and checks the interrupted exit code and message. It returns how long the
+// command took to stop after the signal (a behaviour bound, not a speed
+// measurement: Ctrl-C used to be ignored), and false when the attempt
+// already failed.
+func interruptOnce(t *testing.T, name string, args []string, after time.Duration) (time.Duration, bool) {
+	t.Helper()
+	cmd, stdout, stderr := thrumProcess(t, args...)
+	done := make(chan struct{})
+	go func() { cmd.Wait(); close(done) }()
+	select {
+	case <-done:
+		t.Errorf("%s finished before the signal (exit %d); the plant is too small\n%s%s", name, cmd.ProcessState.ExitCode(), stdout, stderr)
+		return 0, false
+	case <-time.After(after):
+	}
+	sent := time.Now()
+	if err := cmd.Process.Signal(syscall.SIGINT); err != nil {
+		t.Fatal(err)
+	}
+	select {
+	case <-done:
+	case <-time.After(30 * time.Second):
+		cmd.Process.Kill()
+		<-done
+	}
+	took := time.Since(sent)
+	t.Logf("%s: stopped %v after SIGINT", name, took.Round(time.Millisecond))
+	if code := cmd.ProcessState.ExitCode(); code != exitInterrupted {
+		t.Errorf("%s: exit code %d after SIGINT, want %d\nstderr: %s", name, code, exitInterrupted, stderr)
+		return took, false
+	}
+	if !strings.Contains(stderr.String(), "interrupted") {
+		t.Errorf("%s: stderr does not say it was interrupted: %s", name, stderr)
+		return took, false
+	}
+	return took, true
 }
 
 // A named pipe called take-99.wav among the recordings is never opened:
