@@ -75,4 +75,8 @@ type Summary struct {
 	// Stale lists the outputs no ledger line names any more, moved to
 	// OUT/.stale by an unsharded run (paths relative to Out, as they were).
 	Stale []string
+	// Excluded lists the recordings the expand stage did not use because
+	// of their samples or the quality gate, as "<path>: <kind>: <message>"
+	// in ledger order.
+	Excluded []string
 }

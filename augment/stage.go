@@ -52,7 +52,13 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 	envs := map[string]*env{}
 	plans := &Plans{} // resampler plans, shared by every machine of the run
 	var jobs []job
+	// The expand section records every recording whose samples excluded
+	// it, so the ledger accounts for each source the plant has.
+	excluded := map[string][]ledger.Entry{}
 	for _, r := range inv.Recordings {
+		if kind, msg, ok := r.Exclusion(); ok && stage == ledger.Expand && opt.Shard.Has(r.Machine+"/"+r.Rel) {
+			excluded[r.Machine] = append(excluded[r.Machine], ExcludedEntry(r, kind, msg))
+		}
 		if !r.Usable() {
 			continue
 		}
@@ -159,6 +165,17 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 	for i, j := range jobs {
 		byMachine[j.m.ID] = append(byMachine[j.m.ID], results[i]...)
 	}
+	for id, es := range excluded {
+		byMachine[id] = append(byMachine[id], es...)
+		s := sums[id]
+		if s == nil {
+			s = &Summary{Machine: id, Rejected: map[string]int{}, Undefined: map[string]int{}, Faults: map[string]int{}}
+			sums[id] = s
+		}
+		for _, e := range es {
+			s.Excluded = append(s.Excluded, e.Source+": "+e.Reason)
+		}
+	}
 	// Every machine of the plant commits, those without work in this run
 	// too: a shard writes an empty part (the join never waits for a part
 	// that cannot come), an unsharded run drops the lines of recordings
@@ -226,4 +243,15 @@ func faultKind(e ledger.Entry) string {
 		return e.Fault.Kind
 	}
 	return ""
+}
+
+// ExcludedEntry is the expand ledger line of a recording whose samples
+// excluded it (see ledger.KindExcluded); kind and msg are from
+// Recording.Exclusion.
+func ExcludedEntry(r *machine.Recording, kind, msg string) ledger.Entry {
+	return ledger.Entry{
+		Kind: ledger.KindExcluded, Stage: ledger.Expand, Source: r.Rel, SourceSHA256: r.SHA256,
+		Machine: r.Machine, Condition: r.Condition, Origin: machine.OriginRecorded, Label: r.Label,
+		Group: r.Group, Variant: -1, SampleRate: r.Format.SampleRate, Reason: kind + ": " + msg, Tool: machine.ToolVersion,
+	}
 }

@@ -88,6 +88,9 @@ type MachineReport struct {
 	Rejected, Faults map[string]int
 	// Splits counts files per split: train, eval, test, excluded.
 	Splits map[string]int
+	// Excluded lists the source recordings not used, each as
+	// "<path>: <reason>" (the ledger's excluded lines), in ledger order.
+	Excluded []string
 }
 
 // splitOrder is the display order of the usual split names; any other
@@ -169,6 +172,7 @@ func RenderReport(w io.Writer, d ReportData) error {
 				{"Splits", sortedCounts(m.Splits, splitOrder)},
 			},
 			Pictures: pics[i],
+			Excluded: m.Excluded,
 		}
 		v.Machines = append(v.Machines, mv)
 	}
@@ -204,6 +208,7 @@ type machineView struct {
 	Clips, Recorded, Augmented int
 	Sections                   []section
 	Pictures                   []picture
+	Excluded                   []string
 }
 
 // section is a group of table rows under one heading.
@@ -451,6 +456,14 @@ figcaption { color: #4a5560; font-size: 0.92em; }
 {{- end}}
 </tbody>
 </table>
+{{- if .Excluded}}
+<h3>Excluded recordings</h3>
+<ul class="excluded">
+{{- range .Excluded}}
+<li>{{.}}</li>
+{{- end}}
+</ul>
+{{- end}}
 {{- range .Pictures}}
 <figure>
 <img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Caption}}">

@@ -41,7 +41,8 @@ type Clip struct {
 type Levels struct {
 	RMSDBFS  float64 `json:"rms_dbfs"`
 	PeakDBFS float64 `json:"peak_dbfs"`
-	// Clipped is the fraction of samples at or beyond full scale.
+	// Clipped is the fraction of samples in flat tops near full scale
+	// (QualityStats.Clipped).
 	Clipped float64 `json:"clipped"`
 	// DC is the mean sample value (full scale 1).
 	DC float64 `json:"dc"`
@@ -59,17 +60,40 @@ type Recording struct {
 	Session string `json:"session,omitempty"`
 	// Group is the split unit: the session folder when there is one, else
 	// the recording itself.
-	Group    string       `json:"group"`
-	SHA256   string       `json:"sha256"`
-	Format   wavio.Format `json:"format"`
-	Frames   int64        `json:"frames"`
-	Seconds  float64      `json:"seconds"`
-	Clips    []Clip       `json:"clips"`
-	Levels   *Levels      `json:"levels,omitempty"`
-	Warnings []string     `json:"warnings,omitempty"`
+	Group   string       `json:"group"`
+	SHA256  string       `json:"sha256"`
+	Format  wavio.Format `json:"format"`
+	Frames  int64        `json:"frames"`
+	Seconds float64      `json:"seconds"`
+	Clips   []Clip       `json:"clips"`
+	Levels  *Levels      `json:"levels,omitempty"`
+	// Quality is what the quality gate measured (nil when the samples
+	// could not be read or checked).
+	Quality  *QualityStats `json:"quality,omitempty"`
+	Warnings []string      `json:"warnings,omitempty"`
+	// Accepted is the plant's reason ([[quality.accept]]) for using the
+	// recording although the gate would exclude it; AcceptedOver is the
+	// gate's finding it overrides.
+	Accepted     string `json:"accepted,omitempty"`
+	AcceptedOver string `json:"accepted_over,omitempty"`
 	// Err is why the recording cannot be used (unreadable, wrong rate, a
-	// *SampleError for its samples).
+	// *SampleError for its samples, a *QualityError from the gate).
 	Err error `json:"-"`
+}
+
+// Exclusion returns the kind and message of a recording that was read but
+// whose samples exclude it (a *SampleError or a *QualityError), or ok
+// false. These are the recordings the ledger records as excluded.
+func (r *Recording) Exclusion() (kind, msg string, ok bool) {
+	var se *SampleError
+	var qe *QualityError
+	switch {
+	case errors.As(r.Err, &se):
+		return se.Kind, se.Error(), true
+	case errors.As(r.Err, &qe):
+		return qe.Kind, qe.Error(), true
+	}
+	return "", "", false
 }
 
 // Usable reports whether the recording can be cut into clips and processed.
@@ -82,8 +106,9 @@ type Problem struct {
 	Path      string `json:"path,omitempty"`
 	// Kind is one of unreadable, rate-mismatch, no-recordings, short,
 	// duplicate (the same content as an earlier recording of the machine),
-	// unknown-folder, warning, and the sample problems non-finite,
-	// absurd-sample and silent (see SampleError).
+	// unknown-folder, unknown-condition, warning, the sample problems
+	// non-finite, absurd-sample and silent (see SampleError), and the
+	// quality gate's clipped, dc-offset and quiet (see QualityError).
 	Kind string `json:"kind"`
 	Msg  string `json:"message"`
 }
@@ -230,7 +255,8 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 		problem("unreadable", "%v; skipped", err)
 		return nil, nil
 	}
-	sum, lv, se, r, err := hashAndRead(ctx, file, levels)
+	th := p.Quality.Thresholds()
+	sum, lv, qs, se, r, err := hashAndRead(ctx, file, levels, th)
 	if cerr := ctx.Err(); cerr != nil {
 		return nil, cerr
 	}
@@ -240,7 +266,7 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 		problem("unreadable", "%v", err)
 		return rec, nil
 	}
-	rec.Format, rec.Frames, rec.Warnings, rec.Levels = r.Format(), r.Frames(), r.Warnings(), lv
+	rec.Format, rec.Frames, rec.Warnings, rec.Levels, rec.Quality = r.Format(), r.Frames(), r.Warnings(), lv, qs
 	for _, w := range rec.Warnings {
 		problem("warning", "%s", w)
 	}
@@ -250,6 +276,15 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 		rec.Err = se
 		problem(se.Kind, "%v; not used", se)
 		return rec, nil
+	}
+	if qe := th.Gate(qs); qe != nil {
+		if why := p.Quality.Accepted(rel); why != "" {
+			rec.Accepted, rec.AcceptedOver = why, qe.Error()
+		} else {
+			rec.Err = qe
+			problem(qe.Kind, "%v; not used (accept it in [[quality.accept]] to use it)", qe)
+			return rec, nil
+		}
 	}
 	rate := rec.Format.SampleRate
 	rec.Seconds = float64(rec.Frames) / float64(rate)
@@ -357,15 +392,15 @@ func CheckSamples(x []float64, channels int) *SampleError {
 // hashAndRead hashes the file's bytes, parses its header and decodes every
 // sample in one pass: the samples are checked (see SampleError) and, with
 // levels, measured. Every read fails with ctx's error once ctx is done.
-func hashAndRead(ctx context.Context, file string, levels bool) (string, *Levels, *SampleError, *wavio.Reader, error) {
+func hashAndRead(ctx context.Context, file string, levels bool, th Thresholds) (string, *Levels, *QualityStats, *SampleError, *wavio.Reader, error) {
 	of, err := os.Open(file)
 	if err != nil {
-		return "", nil, nil, nil, err
+		return "", nil, nil, nil, nil, err
 	}
 	defer of.Close()
 	st, err := of.Stat()
 	if err != nil {
-		return "", nil, nil, nil, err
+		return "", nil, nil, nil, nil, err
 	}
 	f := ContextReader(ctx, of)
 	h := sha256.New()
@@ -373,20 +408,23 @@ func hashAndRead(ctx context.Context, file string, levels bool) (string, *Levels
 	r, err := wavio.NewReader(tee, file, st.Size())
 	if err != nil {
 		drain(h, f)
-		return hex.EncodeToString(h.Sum(nil)), nil, nil, nil, err
+		return hex.EncodeToString(h.Sum(nil)), nil, nil, nil, nil, err
 	}
-	lv, se, err := measure(r)
+	lv, qs, se, err := measure(r, th)
 	if err != nil {
 		drain(h, f)
-		return hex.EncodeToString(h.Sum(nil)), nil, nil, nil, err
+		return hex.EncodeToString(h.Sum(nil)), nil, nil, nil, nil, err
+	}
+	if se != nil {
+		qs = nil
 	}
 	if !levels || (se != nil && se.Kind != SampleSilent) {
 		lv = nil
 	}
 	if err := drain(h, f); err != nil {
-		return "", nil, nil, nil, err
+		return "", nil, nil, nil, nil, err
 	}
-	return hex.EncodeToString(h.Sum(nil)), lv, se, r, nil
+	return hex.EncodeToString(h.Sum(nil)), lv, qs, se, r, nil
 }
 
 // drain hashes whatever of f has not been read yet.
@@ -399,34 +437,23 @@ func drain(h hash.Hash, f io.Reader) error {
 // them: the first non-finite or absurd sample, or a file of zeros, is
 // returned as a *SampleError (the levels are then meaningless, except the
 // −Inf levels of silence).
-func measure(r *wavio.Reader) (*Levels, *SampleError, error) {
+func measure(r *wavio.Reader, th Thresholds) (*Levels, *QualityStats, *SampleError, error) {
 	format := r.Format()
 	ch := format.Channels
 	buf := make([]float64, 8192*ch)
-	var n, clipped int64
+	var n int64
 	var sum, sq, peak float64
 	var bad *SampleError
-	// A sample counts as clipped at the largest code of its format: for
-	// PCM that is within one step of ±1.
-	limit := 1.0
-	if !format.Float {
-		bits := format.ValidBits
-		if bits == 0 {
-			bits = format.BitDepth
-		}
-		limit = 1 - 1.5/math.Ldexp(1, bits-1)
-	}
+	ft := newFlatTops(ch, th.ClipRun)
 	for {
 		k, err := r.ReadFrames(buf)
+		ft.add(buf[:k*ch])
 		for i, x := range buf[:k*ch] {
 			sum += x
 			sq += x * x
 			a := math.Abs(x)
 			if a > peak {
 				peak = a
-			}
-			if a >= limit {
-				clipped++
 			}
 			if kind, ok := badSample(x); ok && bad == nil {
 				idx := n + int64(i)
@@ -439,20 +466,21 @@ func measure(r *wavio.Reader) (*Levels, *SampleError, error) {
 			break
 		}
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 	}
 	lv := &Levels{RMSDBFS: math.Inf(-1), PeakDBFS: math.Inf(-1)}
+	qs := qualityOf(ft, sum, sq, peak, n, th)
 	if n > 0 {
 		lv.DC = sum / float64(n)
-		lv.Clipped = float64(clipped) / float64(n)
+		lv.Clipped = qs.Clipped
 		lv.RMSDBFS = DB(sq / float64(n))
 		lv.PeakDBFS = 20 * math.Log10(peak)
 	}
 	if bad == nil && n > 0 && peak == 0 {
 		bad = &SampleError{Kind: SampleSilent, Offset: -1}
 	}
-	return lv, bad, nil
+	return lv, qs, bad, nil
 }
 
 // DB is 10·log10(power), −Inf for zero power.

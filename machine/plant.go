@@ -41,6 +41,14 @@ type Plant struct {
 	Recipes     []Recipe     `toml:"recipe"`
 	// Features configures the features stage for every machine.
 	Features *FeatureConfig `toml:"features"`
+	// Quality sets the recording quality gate's thresholds and the
+	// recordings accepted despite it.
+	Quality *Quality `toml:"quality"`
+	// Manifest, when set, is a CSV file (columns path, machine, condition,
+	// session, label) listing the recordings instead of the folder layout;
+	// its paths are relative to the recordings root. Relative to the plant
+	// file's folder unless absolute.
+	Manifest string `toml:"manifest"`
 
 	// Path is the file the plant was loaded from (not a TOML key).
 	Path string `toml:"-"`

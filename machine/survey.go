@@ -28,12 +28,41 @@ type SurveyRow struct {
 	PeakDBFS *float64 `json:"peak_dbfs"`
 	Clipped  float64  `json:"clipped"`
 	DC       float64  `json:"dc"`
-	Problems int      `json:"problems"`
+	// The worst file of the condition by the quality gate, excluded ones
+	// included: the one nearest to (or furthest beyond) a threshold, with
+	// its measures. WorstScore is 1 at a threshold: the largest of
+	// clipped/max_clipped, |DC|/max_dc and 10^((min_rms − RMS)/20).
+	Worst        string        `json:"worst,omitempty"`
+	WorstScore   float64       `json:"worst_score,omitempty"`
+	WorstQuality *QualityStats `json:"worst_quality,omitempty"`
+	Excluded     int           `json:"excluded"`
+	Problems     int           `json:"problems"`
+}
+
+// Score is how close a recording's quality is to the gate: 1 at a
+// threshold, above 1 beyond it (see SurveyRow.WorstScore).
+func (t Thresholds) Score(q *QualityStats) float64 {
+	if q == nil {
+		return 0
+	}
+	s := math.Pow(10, (t.MinRMSDBFS-q.RMSDBFS)/20)
+	if t.MaxClippedPercent > 0 {
+		s = math.Max(s, 100*q.Clipped/t.MaxClippedPercent)
+	} else if q.Clipped > 0 {
+		s = math.MaxFloat64
+	}
+	if t.MaxDC > 0 {
+		s = math.Max(s, math.Abs(q.DC)/t.MaxDC)
+	} else if q.DC != 0 {
+		s = math.MaxFloat64
+	}
+	return s
 }
 
 // Survey is the survey report of a plant.
 type Survey struct {
 	Plant      string       `json:"plant"`
+	Thresholds Thresholds   `json:"quality"`
 	Rows       []SurveyRow  `json:"rows"`
 	Problems   []Problem    `json:"problems"`
 	Recordings []*Recording `json:"recordings"`
@@ -41,7 +70,8 @@ type Survey struct {
 
 // Summarise builds the survey report of an inventory scanned with levels.
 func Summarise(inv *Inventory) *Survey {
-	s := &Survey{Plant: inv.Plant.Path, Problems: inv.Problems, Recordings: inv.Recordings}
+	th := inv.Plant.Quality.Thresholds()
+	s := &Survey{Plant: inv.Plant.Path, Thresholds: th, Problems: inv.Problems, Recordings: inv.Recordings}
 	for i := range inv.Plant.Machines {
 		m := &inv.Plant.Machines[i]
 		for j := range m.Conditions {
@@ -64,6 +94,14 @@ func Summarise(inv *Inventory) *Survey {
 				}
 				if !r.Usable() {
 					row.Unusable++
+				}
+				if _, _, ok := r.Exclusion(); ok {
+					row.Excluded++
+				}
+				if r.Quality != nil {
+					if sc := th.Score(r.Quality); row.Worst == "" || sc > row.WorstScore {
+						row.Worst, row.WorstScore, row.WorstQuality = r.Rel, sc, r.Quality
+					}
 				}
 				if r.Err != nil {
 					continue
@@ -127,18 +165,30 @@ func dbfs(x *float64) string {
 // WriteText renders the survey as a table followed by the problems.
 func (s *Survey) WriteText(w io.Writer) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "machine\tcondition\trec\tanom\tclips\tminutes\trate Hz\tch\tRMS dBFS\tpeak dBFS\tclipped %\tDC\tproblems")
+	fmt.Fprintln(tw, "machine\tcondition\trec\tanom\texcl\tclips\tminutes\trate Hz\tch\tRMS dBFS\tpeak dBFS\tclipped %\tDC\tproblems\tworst file (clipped %, DC, RMS dBFS)")
 	for _, r := range s.Rows {
 		name := r.Condition
 		if r.HoldOut {
 			name += " (hold-out)"
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%.1f\t%s\t%s\t%s\t%s\t%.3f\t%+.4f\t%d\n",
-			r.Machine, name, r.Recordings, r.Anomalous, r.Clips, r.Seconds/60, ints(r.SampleRates), ints(r.Channels),
-			dbfs(r.RMSDBFS), dbfs(r.PeakDBFS), 100*r.Clipped, r.DC, r.Problems)
+		worst := "-"
+		if q := r.WorstQuality; q != nil {
+			worst = fmt.Sprintf("%s (%.3f, %+.4f, %s)", r.Worst, 100*q.Clipped, q.DC, dbfs(&q.RMSDBFS))
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%d\t%.1f\t%s\t%s\t%s\t%s\t%.3f\t%+.4f\t%d\t%s\n",
+			r.Machine, name, r.Recordings, r.Anomalous, r.Excluded, r.Clips, r.Seconds/60, ints(r.SampleRates), ints(r.Channels),
+			dbfs(r.RMSDBFS), dbfs(r.PeakDBFS), 100*r.Clipped, r.DC, r.Problems, worst)
 	}
 	if err := tw.Flush(); err != nil {
 		return err
+	}
+	t := s.Thresholds
+	fmt.Fprintf(w, "quality gate: clipped ≤ %g %% (flat tops of ≥ %d samples within %g dB of full scale), |DC| ≤ %g, RMS ≥ %g dBFS\n",
+		t.MaxClippedPercent, t.ClipRun, -t.ClipLevelDBFS, t.MaxDC, t.MinRMSDBFS)
+	for _, r := range s.Recordings {
+		if r.Accepted != "" {
+			fmt.Fprintf(w, "accepted: %s: %s; used because: %s\n", r.Rel, r.AcceptedOver, r.Accepted)
+		}
 	}
 	if len(s.Problems) == 0 {
 		_, err := fmt.Fprintln(w, "\nno problems found")

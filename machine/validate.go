@@ -275,6 +275,7 @@ func (v *validator) plant(p *Plant) {
 		v.recipe(p, r, i, loc, fmt.Sprintf("recipe[%s]", r.ID))
 	}
 	v.features("features", "features", p.Features, float64(p.SampleRate))
+	v.quality(p.Quality)
 	if len(p.Machines) == 0 {
 		v.bad("", "machine", "[[machine]]", "at least one [[machine]] is required")
 	}

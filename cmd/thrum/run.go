@@ -49,6 +49,7 @@ type machineReport struct {
 	clips, recorded, augmented int
 	rejected, faults           map[string]int
 	splits                     map[string]int
+	excluded                   []string
 }
 
 func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath string) error {
@@ -125,6 +126,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	for _, s := range exp {
 		m := get(s.Machine)
 		m.clips, m.recorded, m.augmented = s.Clips, s.Recorded, s.Augmented
+		m.excluded = append(m.excluded, s.Excluded...)
 		for k, v := range s.Rejected {
 			m.rejected[k] += v
 		}
@@ -154,7 +156,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	for _, id := range sortedKeys(reports) {
 		m := reports[id]
 		rd.Machines = append(rd.Machines, features.MachineReport{ID: id, Clips: m.clips, Recorded: m.recorded,
-			Augmented: m.augmented, Rejected: m.rejected, Faults: m.faults, Splits: m.splits})
+			Augmented: m.augmented, Rejected: m.rejected, Faults: m.faults, Splits: m.splits, Excluded: m.excluded})
 	}
 	reportPath := filepath.Join(o.Out, "report.html")
 	if err := features.WriteReport(reportPath, rd); err != nil {
@@ -163,8 +165,12 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	if o.JSON {
 		for _, id := range sortedKeys(reports) {
 			m := reports[id]
-			writeJSONLine(g.stdout, map[string]any{"event": "machine", "machine": id, "clips": m.clips, "recorded": m.recorded,
-				"augmented": m.augmented, "rejected": m.rejected, "faults": m.faults, "splits": m.splits})
+			ev := map[string]any{"event": "machine", "machine": id, "clips": m.clips, "recorded": m.recorded,
+				"augmented": m.augmented, "rejected": m.rejected, "faults": m.faults, "splits": m.splits}
+			if len(m.excluded) > 0 {
+				ev["excluded_recordings"] = m.excluded
+			}
+			writeJSONLine(g.stdout, ev)
 		}
 		for _, w := range sres.Warnings {
 			writeJSONLine(g.stdout, map[string]any{"event": "warning", "stage": "split", "message": w})
@@ -181,6 +187,11 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		tw.Flush()
 		for _, w := range sres.Warnings {
 			fmt.Fprintf(g.stdout, "split: warning: %s\n", w)
+		}
+		for _, id := range sortedKeys(reports) {
+			for _, x := range reports[id].excluded {
+				fmt.Fprintf(g.stdout, "excluded recording: %s\n", x)
+			}
 		}
 		fmt.Fprintf(g.stdout, "audit: %s; wall time %.1f s; outputs in %s; report: %s\n", verdict, wall.Seconds(), o.Out, reportPath)
 		if !rep.OK() {

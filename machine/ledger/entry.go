@@ -32,13 +32,20 @@ func (s Stage) Rank() int {
 	return -1
 }
 
-// Kind says whether a line names an output or a rejected variant.
+// Kind says whether a line names an output, a rejected variant or an
+// excluded recording.
 type Kind string
 
 // Line kinds.
 const (
 	KindOutput   Kind = "output"
 	KindRejected Kind = "rejected"
+	// KindExcluded is a source recording the expand stage did not use:
+	// its samples failed a check (non-finite, absurd or silent samples) or
+	// the plant's quality gate (clipped, DC offset, quiet). The line names
+	// the source, its hash and Reason ("<kind>: <message>"); it has no
+	// Path, clip or variant (Variant −1).
+	KindExcluded Kind = "excluded"
 )
 
 // Entry is one line of OUT/<machine-id>/ledger.jsonl: everything needed to

@@ -57,8 +57,8 @@ func Read(r io.Reader, name string) ([]Entry, error) {
 			return out, fmt.Errorf("ledger: %s:%d: schema %d is not a version", name, line, e.Schema)
 		case e.Stage.Rank() < 0:
 			return out, fmt.Errorf("ledger: %s:%d: stage %q is not one of %s", name, line, e.Stage, stageList())
-		case e.Kind != KindOutput && e.Kind != KindRejected:
-			return out, fmt.Errorf("ledger: %s:%d: kind %q is not %q or %q", name, line, e.Kind, KindOutput, KindRejected)
+		case e.Kind != KindOutput && e.Kind != KindRejected && e.Kind != KindExcluded:
+			return out, fmt.Errorf("ledger: %s:%d: kind %q is not %q, %q or %q", name, line, e.Kind, KindOutput, KindRejected, KindExcluded)
 		}
 		out = append(out, e)
 	}
