@@ -169,6 +169,14 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 		if len(want) > 0 && !want[m.ID] {
 			continue
 		}
+		if ents, err := os.ReadDir(filepath.Join(root, m.ID)); err == nil {
+			for _, e := range ents {
+				if e.IsDir() && m.Condition(e.Name()) == nil {
+					inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Path: m.ID + "/" + e.Name(), Kind: PreflightFolder,
+						Msg: "folder matches no condition of machine " + m.ID + " in the plant file; its recordings are not used"})
+				}
+			}
+		}
 		// first recording of the machine with each content hash: a second
 		// one (a copy, a hard or symbolic link) would be a second split
 		// group of the same sound, a leak across the split boundary

@@ -66,6 +66,8 @@ type Survey struct {
 	Rows       []SurveyRow  `json:"rows"`
 	Problems   []Problem    `json:"problems"`
 	Recordings []*Recording `json:"recordings"`
+	// Preflight, when set, is rendered after the problems.
+	Preflight *PreflightReport `json:"preflight,omitempty"`
 }
 
 // Summarise builds the survey report of an inventory scanned with levels.
@@ -191,14 +193,20 @@ func (s *Survey) WriteText(w io.Writer) error {
 		}
 	}
 	if len(s.Problems) == 0 {
-		_, err := fmt.Fprintln(w, "\nno problems found")
-		return err
-	}
-	fmt.Fprintf(w, "\n%d problem(s):\n", len(s.Problems))
-	for _, p := range s.Problems {
-		if _, err := fmt.Fprintf(w, "  %s\n", p); err != nil {
+		if _, err := fmt.Fprintln(w, "\nno problems found"); err != nil {
 			return err
 		}
+	} else {
+		fmt.Fprintf(w, "\n%d problem(s):\n", len(s.Problems))
+		for _, p := range s.Problems {
+			if _, err := fmt.Fprintf(w, "  %s\n", p); err != nil {
+				return err
+			}
+		}
+	}
+	if s.Preflight != nil {
+		fmt.Fprintln(w)
+		s.Preflight.WriteText(w)
 	}
 	return nil
 }
@@ -211,11 +219,13 @@ func (s *Survey) WriteJSON(w io.Writer) error {
 		Error string `json:"error,omitempty"`
 	}
 	out := struct {
-		Plant      string      `json:"plant"`
-		Rows       []SurveyRow `json:"rows"`
-		Problems   []Problem   `json:"problems"`
-		Recordings []recJSON   `json:"recordings"`
-	}{Plant: s.Plant, Rows: s.Rows, Problems: s.Problems}
+		Plant      string           `json:"plant"`
+		Quality    Thresholds       `json:"quality"`
+		Rows       []SurveyRow      `json:"rows"`
+		Problems   []Problem        `json:"problems"`
+		Preflight  *PreflightReport `json:"preflight,omitempty"`
+		Recordings []recJSON        `json:"recordings"`
+	}{Plant: s.Plant, Quality: s.Thresholds, Rows: s.Rows, Problems: s.Problems, Preflight: s.Preflight}
 	if out.Problems == nil {
 		out.Problems = []Problem{}
 	}

@@ -59,6 +59,22 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		return err
 	}
 	sh, _ := o.shard()
+	// Survey and preflight read only: a plan that cannot work is refused
+	// with its whole list before OUT is locked or written.
+	inv, err := machine.Scan(ctx, p, machine.ScanOptions{})
+	if err != nil {
+		return err
+	}
+	for _, pr := range inv.Problems {
+		fmt.Fprintf(g.stderr, "survey: %s\n", pr)
+	}
+	pf := machine.Preflight(inv, o.Out)
+	if !o.Quiet || !pf.OK() {
+		pf.WriteText(g.stderr)
+	}
+	if !pf.OK() {
+		return pf
+	}
 	lock, err := holdOut(ctx, g, p, o, ledger.Shard(sh))
 	if err != nil {
 		return err
@@ -69,11 +85,9 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 			return err
 		}
 	}
-	inv, err := machine.Scan(ctx, p, machine.ScanOptions{})
-	if err != nil {
-		return err
-	}
-	opt, r, err := startAugment(g, inv, o)
+	// the survey problems are printed above, with the preflight
+	r := o.renderer(g)
+	opt, err := augmentOptions(inv, o, r)
 	if err != nil {
 		return err
 	}

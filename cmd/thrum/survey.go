@@ -12,6 +12,8 @@ import (
 type surveyOptions struct {
 	JSON   bool
 	Strict bool
+	// Out is the planned output folder, for the disk-space check.
+	Out string
 }
 
 func newSurveyCmd(g *globals) *cobra.Command {
@@ -22,14 +24,21 @@ func newSurveyCmd(g *globals) *cobra.Command {
 		Long: `survey reads every recording of the plant and reports, per machine id and condition:
 recordings, clips, duration, sample rates, channels, RMS and peak dBFS, clipped fraction,
 DC offset, and problems (unreadable files with the reason, rate mismatch, conditions with no
-recordings, recordings shorter than one clip). One bad file never stops the survey.`,
+recordings, recordings shorter than one clip, undeclared condition folders) and the quality gate's
+exclusions (clipped, DC offset, quiet; thresholds in [quality]), with each condition's worst file.
+One bad file never stops the survey.
+
+It then runs the preflight checks that run does before writing anything: split feasibility,
+hold-out conflicts, background files, recipes that cannot apply, and the planned outputs' size
+(compared with the free space of --out when given).`,
 		Args: exactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runSurvey(cmd.Context(), g, o, args[0])
 		},
 	}
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "print the survey as JSON on stdout")
-	cmd.Flags().BoolVar(&o.Strict, "strict", false, "exit with code 3 when any problem is found")
+	cmd.Flags().BoolVar(&o.Strict, "strict", false, "exit with code 3 when any problem or preflight error is found")
+	cmd.Flags().StringVar(&o.Out, "out", "", "planned output folder: compare the outputs' size estimate with its free space")
 	return cmd
 }
 
@@ -44,6 +53,7 @@ func runSurvey(ctx context.Context, g *globals, o surveyOptions, plantPath strin
 		return err
 	}
 	s := machine.Summarise(inv)
+	s.Preflight = machine.Preflight(inv, o.Out)
 	if o.JSON {
 		err = s.WriteJSON(g.stdout)
 	} else {
@@ -52,8 +62,8 @@ func runSurvey(ctx context.Context, g *globals, o surveyOptions, plantPath strin
 	if err != nil {
 		return err
 	}
-	if o.Strict && len(s.Problems) > 0 {
-		return &problemsError{fmt.Sprintf("survey found %d problem(s)", len(s.Problems))}
+	if o.Strict && (len(s.Problems) > 0 || !s.Preflight.OK()) {
+		return &problemsError{fmt.Sprintf("survey found %d problem(s) and %d preflight error(s)", len(s.Problems), len(s.Preflight.Errors))}
 	}
 	return nil
 }
