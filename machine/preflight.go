@@ -49,6 +49,14 @@ func (r *PreflightReport) Error() string {
 	return b.String()
 }
 
+// PreflightOptions tune Preflight.
+type PreflightOptions struct {
+	// Out is the planned output folder; "" skips the disk-space check.
+	Out string
+	// Free returns the free bytes for a path (nil = FreeBytes).
+	Free func(path string) int64
+}
+
 // Preflight checks a scanned plant for what would make a run fail or
 // mislead, using only what Scan measured (it decodes nothing more, so it
 // takes no longer than reading the backgrounds' headers and walking OUT):
@@ -71,16 +79,20 @@ func (r *PreflightReport) Error() string {
 //   - recipes that cannot apply: a room step for a machine without a room
 //     and zone (an error), a background step in a plant without
 //     backgrounds (a warning: synthesised plant noise is mixed instead);
-//   - disk space, when out is not "": the estimate against the free space
-//     of the file system of out's nearest existing parent, less what out
-//     already holds (an error when it does not fit).
+//   - disk space, when Out is set: the estimate, less what Out already
+//     holds, against the free space of the file system of Out's nearest
+//     existing parent (an error when it does not fit).
 //
 // The estimate is an upper bound: every usable clip written once as
 // recorded, every normal clip of a condition that is not held out with its
 // recipe's variants and its machine's fault cues (as if every group
 // trained), as 16-bit PCM, plus one log-mel array per output.
-func Preflight(inv *Inventory, out string) *PreflightReport {
-	p := inv.Plant
+func Preflight(inv *Inventory, opt PreflightOptions) *PreflightReport {
+	p, out := inv.Plant, opt.Out
+	free := opt.Free
+	if free == nil {
+		free = FreeBytes
+	}
 	r := &PreflightReport{Errors: []Problem{}, Warnings: []Problem{}, FreeBytes: -1, Out: out}
 	errf := func(kind string, pr Problem, format string, a ...any) {
 		pr.Kind, pr.Msg = kind, fmt.Sprintf(format, a...)
@@ -156,7 +168,7 @@ func Preflight(inv *Inventory, out string) *PreflightReport {
 	r.EstimateBytes = EstimateBytes(inv)
 	if out != "" {
 		r.ExistingBytes = treeBytes(out)
-		r.FreeBytes = FreeBytes(out)
+		r.FreeBytes = free(out)
 		if need := r.EstimateBytes - r.ExistingBytes; r.FreeBytes >= 0 && need > r.FreeBytes {
 			r.Errors = append(r.Errors, Problem{Path: out, Kind: PreflightDisk,
 				Msg: fmt.Sprintf("the planned outputs need about %s more, the file system has %s free", HumanBytes(need), HumanBytes(r.FreeBytes))})

@@ -68,7 +68,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	for _, pr := range inv.Problems {
 		fmt.Fprintf(g.stderr, "survey: %s\n", pr)
 	}
-	pf := machine.Preflight(inv, o.Out)
+	pf := machine.Preflight(inv, machine.PreflightOptions{Out: o.Out})
 	if !o.Quiet || !pf.OK() {
 		pf.WriteText(g.stderr)
 	}

@@ -53,7 +53,7 @@ func runSurvey(ctx context.Context, g *globals, o surveyOptions, plantPath strin
 		return err
 	}
 	s := machine.Summarise(inv)
-	s.Preflight = machine.Preflight(inv, o.Out)
+	s.Preflight = machine.Preflight(inv, machine.PreflightOptions{Out: o.Out})
 	if o.JSON {
 		err = s.WriteJSON(g.stdout)
 	} else {
