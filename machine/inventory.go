@@ -153,6 +153,12 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 	for _, id := range opt.Machines {
 		want[id] = true
 	}
+	if p.Manifest != "" {
+		if err := inv.scanManifest(ctx, p, want, opt.Levels); err != nil {
+			return nil, err
+		}
+		return inv, nil
+	}
 	known := map[string]bool{}
 	for i := range p.Machines {
 		known[p.Machines[i].ID] = true
@@ -199,7 +205,7 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 				if err := ctx.Err(); err != nil {
 					return nil, err
 				}
-				rec, err := inv.scanOne(ctx, p, m, c, root, f, opt.Levels)
+				rec, err := inv.scanOne(ctx, p, m, c, root, f, opt.Levels, nil)
 				if err != nil {
 					return nil, err
 				}
@@ -235,22 +241,32 @@ func wavFiles(dir string) ([]string, error) {
 	return out, err
 }
 
-// scanOne reads one recording. It returns nil (and records a problem) for
-// a file that is not a regular file, and an error only when ctx is done.
-func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Condition, root, file string, levels bool) (*Recording, error) {
+// scanOne reads one recording; row, when not nil, is its manifest row,
+// which gives its path, label and session instead of the folders. It
+// returns nil (and records a problem) for a file that is not a regular
+// file, and an error only when ctx is done.
+func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Condition, root, file string, levels bool, row *ManifestRow) (*Recording, error) {
 	rel, _ := filepath.Rel(root, file)
 	rel = filepath.ToSlash(rel)
 	rec := &Recording{Machine: m.ID, Condition: c.Name, Rel: rel, Path: file, Label: LabelNormal, Group: rel}
-	inner := strings.Split(strings.TrimPrefix(rel, m.ID+"/"+c.Name+"/"), "/")
-	prefix := m.ID + "/" + c.Name
-	for _, part := range inner[:len(inner)-1] {
-		prefix = path.Join(prefix, part)
-		if part == AnomalousDir {
-			rec.Label = LabelAnomalous
+	if row != nil {
+		rec.Rel, rec.Group, rec.Label, rec.Session = row.Path, row.Path, row.Label, row.Session
+		rel = row.Path
+		if row.Session != "" {
+			rec.Group = m.ID + "/" + c.Name + "/" + SessionPrefix + row.Session
 		}
-		if strings.HasPrefix(part, SessionPrefix) && rec.Session == "" {
-			rec.Session = strings.TrimPrefix(part, SessionPrefix)
-			rec.Group = prefix
+	} else {
+		inner := strings.Split(strings.TrimPrefix(rel, m.ID+"/"+c.Name+"/"), "/")
+		prefix := m.ID + "/" + c.Name
+		for _, part := range inner[:len(inner)-1] {
+			prefix = path.Join(prefix, part)
+			if part == AnomalousDir {
+				rec.Label = LabelAnomalous
+			}
+			if strings.HasPrefix(part, SessionPrefix) && rec.Session == "" {
+				rec.Session = strings.TrimPrefix(part, SessionPrefix)
+				rec.Group = prefix
+			}
 		}
 	}
 	if rec.Session != "" && rec.Label == LabelAnomalous && !strings.Contains(rec.Group, "/"+AnomalousDir) {
