@@ -23,10 +23,11 @@ const (
 	// DefaultMaxClippedPercent: more than 0.1 % of samples in flat tops
 	// excludes a recording (common practice).
 	DefaultMaxClippedPercent = 0.1
-	// DefaultMaxDC: a mean beyond ±2 % of full scale (about −34 dBFS)
+	// DefaultMaxDC: a mean beyond ±5 % of full scale (about −26 dBFS)
 	// excludes a recording (common practice flags DC offsets of a few per
-	// cent of full scale as a recorder fault).
-	DefaultMaxDC = 0.02
+	// cent of full scale as a recorder fault; 5 % leaves room for the bias
+	// of accelerometer records, which measured bearing data shows at 3 %).
+	DefaultMaxDC = 0.05
 	// DefaultMinRMSDBFS: an RMS below −70 dBFS is a dead or unplugged
 	// channel rather than a machine (common practice: the noise floor of a
 	// working 16-bit chain with a microphone lies well above it).

@@ -42,7 +42,7 @@ func ptr[T any](v T) *T { return &v }
 
 // The gate's thresholds are common practice (see the Default constants):
 // clipped > 0.1 % of samples in flat tops of ≥ 3 samples within 1 dB of
-// full scale, |DC| > 0.02, RMS < −70 dBFS. Each case states the measure it
+// full scale, |DC| > 0.05, RMS < −70 dBFS. Each case states the measure it
 // trips and is checked against the default and against changed thresholds.
 func TestQualityGate(t *testing.T) {
 	def := (*Quality)(nil).Thresholds()
@@ -64,18 +64,18 @@ func TestQualityGate(t *testing.T) {
 		// runs of 2 are chance, not clipping (clip_run 3) …
 		{"runs of two", withRuns(qtone(0.5, 0), 20, 2, 1), 1, def, "", 0},
 		// … unless the plant says clip_run = 2
-		{"runs of two, clip_run 2", withRuns(qtone(0.5, 0), 20, 2, 1), 1, Thresholds{0.1, 2, -1, 0.02, -70}, GateClipped, 40.0 / 16000},
+		{"runs of two, clip_run 2", withRuns(qtone(0.5, 0), 20, 2, 1), 1, Thresholds{0.1, 2, -1, 0.05, -70}, GateClipped, 40.0 / 16000},
 		// clipped then normalised to −0.5 dBFS: still within 1 dB of full scale
 		{"normalised flat tops", clampAt(qtone(2, 0), 0.944), 1, def, GateClipped, -1},
 		// flat tops at −6 dBFS are below clip_level_dbfs −1: not counted
 		{"flat tops well below full scale", clampAt(qtone(2, 0), 0.5), 1, def, "", 0},
-		{"same, clip_level_dbfs −12", clampAt(qtone(2, 0), 0.5), 1, Thresholds{0.1, 3, -12, 0.02, -70}, GateClipped, -1},
+		{"same, clip_level_dbfs −12", clampAt(qtone(2, 0), 0.5), 1, Thresholds{0.1, 3, -12, 0.05, -70}, GateClipped, -1},
 		// flat tops only in the second channel of a stereo take
 		{"stereo, one channel clipped", interleave(qtone(0.5, 0), clampAt(qtone(2, 0), 1)), 2, def, GateClipped, -1},
-		{"dc 0.05", qtone(0.3, 0.05), 1, def, GateDC, 0},
-		{"dc -0.05", qtone(0.3, -0.05), 1, def, GateDC, 0},
-		{"dc 0.01 passes", qtone(0.3, 0.01), 1, def, "", 0},
-		{"dc 0.05, max_dc 0.5", qtone(0.3, 0.05), 1, loose, "", 0},
+		{"dc 0.08", qtone(0.3, 0.08), 1, def, GateDC, 0},
+		{"dc -0.08", qtone(0.3, -0.08), 1, def, GateDC, 0},
+		{"dc 0.03 passes", qtone(0.3, 0.03), 1, def, "", 0},
+		{"dc 0.08, max_dc 0.5", qtone(0.3, 0.08), 1, loose, "", 0},
 		// amplitude 1e-4: RMS −83 dBFS
 		{"quiet", qtone(1e-4, 0), 1, def, GateQuiet, 0},
 		{"quiet, floor −120", qtone(1e-4, 0), 1, loose, "", 0},
@@ -140,7 +140,7 @@ func TestScanQualityGateAndAccept(t *testing.T) {
 	}
 	src = append(src, []byte(`
 [quality]
-max_dc = 0.05
+max_dc = 0.04
 [[quality.accept]]
 path = "pump-a1/full-load/accepted.wav"
 reason = "the only take at this load; the clipping is on transients"
@@ -187,7 +187,7 @@ reason = "the only take at this load; the clipping is on transients"
 	if err := s.WriteText(&sb); err != nil {
 		t.Fatal(err)
 	}
-	for _, w := range []string{"accepted: pump-a1/full-load/accepted.wav", "|DC| ≤ 0.05", "pump-a1/full-load/accepted.wav ("} {
+	for _, w := range []string{"accepted: pump-a1/full-load/accepted.wav", "|DC| ≤ 0.04", "pump-a1/full-load/accepted.wav ("} {
 		if !strings.Contains(sb.String(), w) {
 			t.Errorf("survey text lacks %q:\n%s", w, sb.String())
 		}
