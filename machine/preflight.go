@@ -67,10 +67,11 @@ type PreflightOptions struct {
 //     problem already), and each machine's anomalous groups against the
 //     splits they go to, eval when anomalous_eval > 0 and test when it is
 //     < 1 (a warning: the split stage leaves one of them without anomalies);
-//   - hold-out conflicts: a training condition whose rpm lies in a hold-out
-//     condition's speed band is an error (the split stage refuses its
-//     recorded clips); bands that only overlap are a warning (variants are
-//     kept out of the hold-out band, the recorded drift is not);
+//   - hold-out conflicts, as warnings like the split stage's rules: a
+//     training condition whose rpm lies in a hold-out condition's band
+//     shares its speed (the hold-out then tests a load, not an unseen
+//     speed; see Condition.SharesSpeed), and bands that only overlap keep
+//     the variants out of the hold-out band but not the recorded drift;
 //   - background files: exist, are regular, readable WAVs at the working
 //     rate and not silent (Load checks the same; a plant from Parse has not
 //     been checked);
@@ -191,9 +192,9 @@ func (r *PreflightReport) holdOut(m *Machine) {
 			}
 			lo, hi := c.Band()
 			switch {
-			case c.RPM >= hlo && c.RPM <= hhi:
-				r.Errors = append(r.Errors, Problem{Machine: m.ID, Condition: c.Name, Kind: PreflightHoldOut,
-					Msg: fmt.Sprintf("training condition at %g rpm lies in the band of hold-out condition %q (%g rpm ± %g %%: %.6g … %.6g rpm); the split stage refuses its clips: move one of them or hold both out", c.RPM, h.Name, h.RPM, h.BandPercent, hlo, hhi)})
+			case c.SharesSpeed(h):
+				r.Warnings = append(r.Warnings, Problem{Machine: m.ID, Condition: c.Name, Kind: PreflightHoldOut,
+					Msg: fmt.Sprintf("training condition at %g rpm lies in the band of hold-out condition %q (%g rpm ± %g %%: %.6g … %.6g rpm): the hold-out tests something other than speed (a load, say), not an unseen speed", c.RPM, h.Name, h.RPM, h.BandPercent, hlo, hhi)})
 			case lo <= hhi && hi >= hlo:
 				r.Warnings = append(r.Warnings, Problem{Machine: m.ID, Condition: c.Name, Kind: PreflightHoldOutLap,
 					Msg: fmt.Sprintf("speed band %.6g … %.6g rpm overlaps hold-out condition %q's band %.6g … %.6g rpm: variants are kept out of it, recorded speed drift is not", lo, hi, h.Name, hlo, hhi)})
