@@ -15,11 +15,14 @@ import (
 func preflightPlant(t *testing.T, extra string, edit func(string) string, takes map[string]int) *Inventory {
 	t.Helper()
 	dir := t.TempDir()
+	seq := 0
 	for where, n := range takes {
 		for k := 0; k < n; k++ {
 			p := filepath.Join(dir, "recordings", filepath.FromSlash(where), "take-"+string(rune('a'+k))+".wav")
 			os.MkdirAll(filepath.Dir(p), 0o755)
-			if err := wavio.WriteFile(p, qtone(0.3, 0), 16000, 1, wavio.PCM16); err != nil {
+			seq++
+			// distinct content per take: equal files are one recording (duplicate)
+			if err := wavio.WriteFile(p, qtone(0.3+0.001*float64(seq), 0), 16000, 1, wavio.PCM16); err != nil {
 				t.Fatal(err)
 			}
 		}

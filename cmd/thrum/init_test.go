@@ -22,9 +22,10 @@ func writeTree(t *testing.T, root string, files map[string]int) {
 		}
 		p := filepath.Join(root, filepath.FromSlash(rel))
 		os.MkdirAll(filepath.Dir(p), 0o755)
+		// distinct content per file: equal files are one recording (duplicate)
 		x := make([]float64, rate)
 		for i := range x {
-			x[i] = 0.2 * float64((i*37)%100-50) / 50
+			x[i] = 0.2 * float64((i*(37+len(rel)+int(rel[0])))%100-50) / 50
 		}
 		if err := wavio.WriteFile(p, x, rate, 1, wavio.PCM16); err != nil {
 			t.Fatal(err)
