@@ -132,6 +132,7 @@ func (inv *Inventory) scanManifest(ctx context.Context, p *Plant, want map[strin
 		if len(want) > 0 && !want[m.ID] {
 			continue
 		}
+		seen := map[string]string{} // content hash → first recording, as Scan's folders
 		for j := range m.Conditions {
 			c := &m.Conditions[j]
 			n := 0
@@ -147,6 +148,14 @@ func (inv *Inventory) scanManifest(ctx context.Context, p *Plant, want map[strin
 				rec, err := inv.scanOne(ctx, p, m, c, root, filepath.Join(root, filepath.FromSlash(row.Path)), levels, row)
 				if err != nil {
 					return err
+				}
+				if rec != nil && rec.Err == nil && rec.SHA256 != "" {
+					if first, ok := seen[rec.SHA256]; ok {
+						rec.Err = fmt.Errorf("same content (sha256 %s) as %s", rec.SHA256, first)
+						inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: rec.Rel, Kind: "duplicate", Msg: fmt.Sprintf("%v; not used", rec.Err)})
+					} else {
+						seen[rec.SHA256] = rec.Rel
+					}
 				}
 				if rec != nil {
 					inv.Recordings = append(inv.Recordings, rec)
