@@ -109,6 +109,14 @@ type Problem struct {
 	Msg  string `json:"message"`
 }
 
+// ProblemNotFullScale is the kind of the note on float sensor data beyond
+// ±1: information, not a fault of the file.
+const ProblemNotFullScale = "not-full-scale"
+
+// Note reports whether the problem is only information (see
+// ProblemNotFullScale): survey --strict does not count it.
+func (p Problem) Note() bool { return p.Kind == ProblemNotFullScale }
+
 func (p Problem) String() string {
 	loc := p.Path
 	if loc == "" {
@@ -306,7 +314,7 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 	if rec.Format.Float && lv.PeakDBFS > 0 {
 		rec.BeyondFullScale = true
 		lv.Clipped = 0
-		problem("not-full-scale", "not full-scale audio, peak %.3g; read unchanged (sensor data in its own units), clipping not assessed", math.Pow(10, lv.PeakDBFS/20))
+		problem(ProblemNotFullScale, "not full-scale audio, peak %.3g; read unchanged (sensor data in its own units), clipping not assessed", math.Pow(10, lv.PeakDBFS/20))
 	}
 	rate := rec.Format.SampleRate
 	rec.Seconds = float64(rec.Frames) / float64(rate)

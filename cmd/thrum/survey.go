@@ -52,8 +52,14 @@ func runSurvey(ctx context.Context, g *globals, o surveyOptions, plantPath strin
 	if err != nil {
 		return err
 	}
-	if o.Strict && len(s.Problems) > 0 {
-		return &problemsError{fmt.Sprintf("survey found %d problem(s)", len(s.Problems))}
+	faults := 0
+	for _, p := range s.Problems {
+		if !p.Note() {
+			faults++
+		}
+	}
+	if o.Strict && faults > 0 {
+		return &problemsError{fmt.Sprintf("survey found %d problem(s)", faults)}
 	}
 	return nil
 }
