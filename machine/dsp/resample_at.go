@@ -30,8 +30,9 @@ func (rs *Resampler) Support(m0 int64, n int) (lo, hi int64) {
 // ApplyAt fills dst with outputs m0, m0+1, … of the conversion of a signal
 // s, given x = s[x0 : x0+len(x)]; samples of s outside x count as zero, so x
 // should cover Support(m0, len(dst)) or reach the ends of s. Output m0+i
-// equals Apply's output m0+i on the whole signal up to the float32
-// rounding of the grouped kernel (both sum the same taps).
+// is then bit-identical to Apply's output m0+i on the whole signal (the
+// same kernels on the same taps; outputs before 0 or past Len are the
+// kernel's tails, which Apply does not produce).
 func (rs *Resampler) ApplyAt(dst, x []float64, x0, m0 int64) {
 	if rs.ratio == 1 {
 		for i := range dst {
