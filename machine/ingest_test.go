@@ -165,6 +165,19 @@ func TestResampledClipsMatchWholeConversion(t *testing.T) {
 		t.Fatal(err)
 	}
 	whole := Resample(nil, a.Data, 48000, 16000)
+	if r.WorkFrames() != int64(len(whole)) {
+		t.Fatalf("WorkFrames %d, whole conversion %d", r.WorkFrames(), len(whole))
+	}
+	// ReadSpan (a speed change's source) reads the same working-rate samples.
+	span, err := r.ReadSpan(nil, 12345, 7000)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, v := range span {
+		if v != whole[12345+k] {
+			t.Fatalf("span sample %d: %v, whole conversion %v", k, v, whole[12345+k])
+		}
+	}
 	for i, c := range clipsOf(t, r) {
 		for k, v := range c {
 			if v != whole[i*16000+k] {

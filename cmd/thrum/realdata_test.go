@@ -34,7 +34,8 @@ func realData(t testing.TB, set string) string {
 }
 
 // The bearing rig's records in one 12 kHz plant run end to end: the 48 kHz
-// normal record is resampled (its ledger lines carry the source rate and
+// normal record is resampled (speed variants read their source span at
+// the working rate; its ledger lines carry the source rate and
 // ratio), the float records beyond ±1 go in, nothing is dropped.
 func TestRealBearingPlantRuns(t *testing.T) {
 	data := realData(t, "cwru-bearing")
@@ -53,8 +54,8 @@ func TestRealBearingPlantRuns(t *testing.T) {
 		}
 	}
 	// Drive-end bearing SKF 6205 (9 balls, d = 0.3126 in, D = 1.537 in, per
-	// the data's README), clips of 2 s; two normal groups
-	// (drive end, fan end) shared by train and eval.
+	// the data's README), clips of 2 s; the two normal groups
+	// (drive end, fan end) train, the real faults go to eval and test.
 	plant := filepath.Join(dir, "plant.toml")
 	if err := os.WriteFile(plant, []byte(`seed = 3
 sample_rate = 12000
@@ -62,8 +63,8 @@ recordings = "recordings"
 clip_seconds = 2
 
 [split]
-train = 0.5
-eval = 0.5
+train = 1
+eval = 0
 test = 0
 
 [[recipe]]
@@ -72,6 +73,9 @@ variants = 1
 [[recipe.step]]
 kind = "gain"
 range = [-3, 3]
+[[recipe.step]]
+kind = "speed"
+range = [-1, 1]
 
 [[machine]]
 id = "motor-de"
@@ -100,15 +104,16 @@ recipe = "light"
 	}
 	defer f.Close()
 	sources := map[string]int{}
-	resampled := 0
+	resampled, sped := 0, 0
 	sc := bufio.NewScanner(f)
 	sc.Buffer(nil, 1<<20)
 	for sc.Scan() {
 		var e struct {
-			Kind, Stage, Source, Resample string
-			SourceRate                    int     `json:"source_rate"`
-			SampleRate                    int     `json:"sample_rate"`
-			Bandwidth                     float64 `json:"bandwidth_hz"`
+			Kind, Stage, Source, Resample, Origin string
+			Speed                                 float64
+			SourceRate                            int     `json:"source_rate"`
+			SampleRate                            int     `json:"sample_rate"`
+			Bandwidth                             float64 `json:"bandwidth_hz"`
 		}
 		if err := json.Unmarshal(sc.Bytes(), &e); err != nil {
 			t.Fatal(err)
@@ -122,6 +127,9 @@ recipe = "light"
 		}
 		if filepath.Ext(e.Source) == ".wav" && e.SourceRate == 48000 {
 			resampled++
+			if e.Origin == "augmented" && e.Speed != 1 {
+				sped++
+			}
 			if e.Resample != "1/4" {
 				t.Errorf("%s: resample %q, want 1/4", e.Source, e.Resample)
 			}
@@ -129,7 +137,7 @@ recipe = "light"
 			t.Errorf("%s: source rate %d, resample %q for a 12 kHz record", e.Source, e.SourceRate, e.Resample)
 		}
 	}
-	if len(sources) != 5 || resampled == 0 {
-		t.Errorf("expand outputs by source %v (%d resampled); want all 5 records", sources, resampled)
+	if len(sources) != 5 || resampled == 0 || sped == 0 {
+		t.Errorf("expand outputs by source %v (%d resampled, %d of them speed variants); want all 5 records, speed variants of the resampled ones", sources, resampled, sped)
 	}
 }

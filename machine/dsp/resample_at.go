@@ -17,6 +17,14 @@ func (rs *Resampler) Fraction() (p, q int, ok bool) {
 	return rs.p, rs.q, rs.q != 0
 }
 
+// Taps returns the kernel length in input samples (padded to the dot
+// kernel's block): the reach of one output into its input.
+func (rs *Resampler) Taps() int { return rs.taps }
+
+// Half returns the kernel's half-length in input samples: an output reads
+// that far on each side of its instant.
+func (rs *Resampler) Half() int { return rs.off + 1 }
+
 // Support returns the input samples [lo, hi) that outputs [m0, m0+n) read.
 func (rs *Resampler) Support(m0 int64, n int) (lo, hi int64) {
 	if rs.ratio == 1 {

@@ -57,7 +57,8 @@ type Entry struct {
 	Source       string `json:"source"`
 	SourceSHA256 string `json:"source_sha256"`
 	// Clip is the clip index inside the source; ClipStart and ClipFrames
-	// locate it in frames.
+	// locate it in frames at the working rate (SampleRate), also for a
+	// resampled source.
 	Clip       int            `json:"clip"`
 	ClipStart  int64          `json:"clip_start"`
 	ClipFrames int64          `json:"clip_frames"`
