@@ -67,15 +67,17 @@ func newEnv(p *machine.Plant, m *machine.Machine, opt Options, plans *Plans) (*e
 			if err != nil {
 				return nil, fmt.Errorf("augment: background %s: %w", b.ID, err)
 			}
+			mono := a.Mono(nil)
 			if a.Format.SampleRate != p.SampleRate {
-				return nil, fmt.Errorf("augment: background %s (%s): sample rate %d Hz, the plant's working rate is %d Hz", b.ID, b.Path, a.Format.SampleRate, p.SampleRate)
+				// Backgrounds at another rate are resampled like recordings.
+				mono = machine.Resample(nil, mono, a.Format.SampleRate, p.SampleRate)
 			}
-			e.bg[id] = a.Mono(nil)
+			e.bg[id] = mono
 			e.bgPath[id] = b.Path
 			if bad := machine.CheckSamples(a.Data, a.Format.Channels); bad != nil {
 				e.bgBad[id] = bad
 			}
-			e.bgFrames[id] = int64(a.Frames)
+			e.bgFrames[id] = int64(len(mono))
 			e.bgIDs = append(e.bgIDs, id)
 		}
 	}

@@ -6,6 +6,7 @@ import (
 
 	"thrum/machine"
 	"thrum/machine/ledger"
+	"thrum/machine/wavio"
 )
 
 // Expand runs the expand stage: every usable recording's clips are written
@@ -38,7 +39,15 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 		ent.Seed = 0
 		ent.Path = fmt.Sprintf("%s/%s/%s/%s-c%04d.wav", r.Machine, r.Condition, folder, st, c.Index)
 		if !e.reuse(&res, ent) {
-			if err := e.emit(&res, ent, x); err != nil {
+			y := x
+			if r.BeyondFullScale && e.encoding() != wavio.Float32 {
+				// Sensor data beyond ±1 would clip in PCM: the clip is
+				// scaled into range and the factor recorded.
+				y = append(scratch.recorded[:0], x...)
+				scratch.recorded = y
+				ent.Scale = Protect(y)
+			}
+			if err := e.emit(&res, ent, y); err != nil {
 				return err
 			}
 		}
@@ -134,6 +143,6 @@ func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Cli
 		ent.Path = ""
 		return nil, ent, nil
 	}
-	ent.Scale = Protect(y)
+	ent.Scale = e.fit(j.rec, y)
 	return y, ent, nil
 }

@@ -152,7 +152,7 @@ func (e *env) faultRender(j job, c machine.Clip, x []float64, ki, k int, kind, s
 		ent.Path = ""
 		return nil, ent, nil
 	}
-	ent.Scale = Protect(y)
+	ent.Scale = e.fit(j.rec, y)
 	return y, ent, nil
 }
 

@@ -40,6 +40,8 @@ type workspace struct {
 	// src and spd hold a speed variant's source span and its resampled
 	// samples (speedSource).
 	src, spd []float64
+	// recorded holds a recorded clip scaled into PCM range.
+	recorded []float64
 }
 
 // apply runs the drawn steps in order on a copy of x and checks the result

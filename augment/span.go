@@ -34,18 +34,19 @@ type speedSpan struct {
 // false when the recording is shorter than the span.
 func planSpeedSpan(clipStart, n, total int64, rs *Resampler) (speedSpan, bool) {
 	var frames int64
-	if rs.q != 0 {
-		p, q := int64(rs.p), int64(rs.q)
+	ip, iq, exact := rs.Fraction()
+	if exact {
+		p, q := int64(ip), int64(iq)
 		frames = (n*p + q - 1) / q // ⌈n·p/q⌉ in integers
 	} else {
-		frames = int64(math.Ceil(float64(n) * rs.ratio))
+		frames = int64(math.Ceil(float64(n) * rs.Ratio()))
 	}
 	if frames > total || n <= 0 {
 		return speedSpan{}, false
 	}
 	// The filter's reach on each side, in source frames: the whole kernel
 	// length is more than enough for either side.
-	margin := int64(rs.taps)
+	margin := int64(rs.Taps())
 	// Near the end the span moves back, far enough for the trailing
 	// margin too when the recording has room for it.
 	sp := speedSpan{Start: min(clipStart, max(0, total-frames-margin)), Frames: frames}
@@ -53,13 +54,13 @@ func planSpeedSpan(clipStart, n, total int64, rs *Resampler) (speedSpan, bool) {
 	// frames for an exact-phase plan p/q. An interpolated plan reads no
 	// lead (its first outputs see zeros before the span, as a clip did).
 	var lead int64
-	if rs.q != 0 {
-		p := int64(rs.p)
+	if exact {
+		p := int64(ip)
 		lead = (margin + p - 1) / p * p
 		if lead > sp.Start {
 			lead = sp.Start / p * p
 		}
-		sp.Skip = int(lead * int64(rs.q) / p)
+		sp.Skip = int(lead * int64(iq) / p)
 	}
 	trail := min(margin, total-sp.Start-frames)
 	sp.ReadStart, sp.ReadFrames = sp.Start-lead, lead+frames+trail
@@ -75,7 +76,7 @@ func (e *env) speedSource(ws *workspace, rec *machine.Recording, c machine.Clip,
 		plans = &Plans{}
 	}
 	rs := plans.Resampler(r)
-	sp, ok := planSpeedSpan(c.Start, c.Frames, rec.Frames, rs)
+	sp, ok := planSpeedSpan(c.Start, c.Frames, rec.WorkFrames(), rs)
 	if !ok {
 		return nil, sp, false, nil
 	}

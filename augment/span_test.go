@@ -53,7 +53,7 @@ func TestPlanSpeedSpan(t *testing.T) {
 				t.Errorf("start %d, clip start %d, moved back expected %v", sp.Start, tc.clipStart, tc.moved)
 			}
 			lead, trail := sp.Start-sp.ReadStart, sp.ReadStart+sp.ReadFrames-sp.Start-sp.Frames
-			if margin := int64(rs.off + 1); tc.fullMargins && (lead < margin || trail < margin) {
+			if margin := int64(rs.Half()); tc.fullMargins && (lead < margin || trail < margin) {
 				t.Errorf("margins %d and %d, filter half-length %d", lead, trail, margin)
 			}
 			if d := float64(sp.Skip)*tc.ratio - float64(lead); math.Abs(d) > 1e-6 {
@@ -117,10 +117,11 @@ func TestSpeedSourceMatchesWholeRecording(t *testing.T) {
 			// resampled from Start, past the filter's reach into the zeros
 			// that one sees before Start.
 			ref, from, first := rs.Apply(nil, whole.Data), 0, 0
-			if on := sp.Start * int64(rs.q); on%int64(rs.p) == 0 {
-				from = int(on / int64(rs.p))
+			rp, rq, _ := rs.Fraction()
+			if on := sp.Start * int64(rq); on%int64(rp) == 0 {
+				from = int(on / int64(rp))
 			} else {
-				ref, first = rs.Apply(nil, whole.Data[sp.Start:]), rs.taps
+				ref, first = rs.Apply(nil, whole.Data[sp.Start:]), rs.Taps()
 			}
 			worst := 0.0
 			for k := first; k < len(y); k++ {

@@ -5,6 +5,7 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
+	"fmt"
 	"path"
 	"path/filepath"
 	"strings"
@@ -20,7 +21,11 @@ import (
 // stem turns a recording's path inside its condition folder into a file
 // name stem: folders joined with "--", unsafe characters replaced.
 func stem(r *machine.Recording) string {
-	rel := strings.TrimPrefix(r.Rel, r.Machine+"/"+r.Condition+"/")
+	rel := r.Rel
+	if r.File != "" {
+		rel = r.File
+	}
+	rel = strings.TrimPrefix(rel, r.Machine+"/"+r.Condition+"/")
 	rel = strings.TrimPrefix(rel, machine.AnomalousDir+"/")
 	rel = strings.TrimSuffix(rel, path.Ext(rel))
 	var b strings.Builder
@@ -34,15 +39,23 @@ func stem(r *machine.Recording) string {
 			b.WriteByte('_')
 		}
 	}
+	if r.Channel > 0 {
+		fmt.Fprintf(&b, "-ch%d", r.Channel)
+	}
 	return b.String()
 }
 
 func (e *env) base(r *machine.Recording, c machine.Clip) ledger.Entry {
-	return ledger.Entry{
+	ent := ledger.Entry{
 		Kind: ledger.KindOutput, Source: r.Rel, SourceSHA256: r.SHA256, Clip: c.Index,
 		ClipStart: c.Start, ClipFrames: c.Frames, Machine: r.Machine, Condition: r.Condition,
 		Label: r.Label, Group: e.p.ClipGroup(r, c), SampleRate: e.p.SampleRate, Speed: 1, Scale: 1, Tool: machine.ToolVersion,
+		Resample: r.Resample, BandwidthHz: r.BandwidthHz, Channel: r.Channel,
 	}
+	if r.Resample != "" {
+		ent.SourceRate = r.Format.SampleRate
+	}
+	return ent
 }
 
 // drawHash is the ledger's draw field: the first 8 bytes, as 16 lower-case
@@ -87,12 +100,28 @@ func (e *env) reuse(res *jobResult, want ledger.Entry) bool {
 	return ok
 }
 
+// encoding is the encoding of written clips.
+func (e *env) encoding() wavio.Encoding {
+	if e.opt.Encoding == 0 {
+		return wavio.PCM16
+	}
+	return e.opt.Encoding
+}
+
+// fit scales a rendered output y into range for its encoding and returns
+// the factor applied (the ledger's scale). PCM clamps at full scale, so
+// every PCM output is kept within Ceiling (see Protect); float32 keeps any
+// value, and an output of sensor data beyond ±1 keeps its units there.
+func (e *env) fit(r *machine.Recording, y []float64) float64 {
+	if r.BeyondFullScale && e.encoding() == wavio.Float32 {
+		return 1
+	}
+	return Protect(y)
+}
+
 // write encodes x, writes it atomically under Out and returns its sha256.
 func (e *env) write(rel string, x []float64) (string, error) {
-	enc := e.opt.Encoding
-	if enc == 0 {
-		enc = wavio.PCM16
-	}
+	enc := e.encoding()
 	var buf bytes.Buffer
 	buf.Grow(len(x)*3 + 64)
 	if err := wavio.Encode(&buf, x, e.p.SampleRate, 1, enc); err != nil {

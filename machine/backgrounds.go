@@ -13,8 +13,8 @@ import (
 // backgroundFiles checks the background recordings a plant names, so a bad
 // one is found at load with the line of its path, not halfway through a run:
 // the file exists, is a regular file (a FIFO or a device would block or never
-// end), is a WAV thrum can read, has the plant's working rate, and is not
-// silence (mixing silence at a target SNR cannot work).
+// end), is a WAV or FLAC file thrum can read (at any rate: it is resampled
+// to the working rate), and is not silence (mixing silence at a target SNR cannot work).
 func (v *validator) backgroundFiles(p *Plant) {
 	for i, b := range p.Backgrounds {
 		if b.Path == "" {
@@ -44,9 +44,6 @@ func checkBackground(path string, rate int) string {
 		return fmt.Sprintf("background file cannot be read: %v", err)
 	}
 	defer f.Close()
-	if got := f.Format().SampleRate; got != rate && rate > 0 {
-		return fmt.Sprintf("background file %s has sample rate %d Hz; the plant's working rate is %d Hz", path, got, rate)
-	}
 	buf := make([]float64, 4096*f.Format().Channels)
 	for {
 		n, err := f.ReadFrames(buf)

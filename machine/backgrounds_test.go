@@ -29,7 +29,7 @@ func TestLoadChecksBackgroundFiles(t *testing.T) {
 		{"folder", func(p string) error { return os.Mkdir(p, 0o755) }, "is not a regular file"},
 		{"fifo", mkfifo, "is not a regular file"},
 		{"not a wav", func(p string) error { return os.WriteFile(p, []byte("not audio at all, just text"), 0o644) }, "cannot be read"},
-		{"44.1 kHz", func(p string) error { return wavio.WriteFile(p, tone(44100), 44100, 1, wavio.PCM16) }, "has sample rate 44100 Hz; the plant's working rate is 16000 Hz"},
+		{"44.1 kHz (resampled, accepted)", func(p string) error { return wavio.WriteFile(p, tone(44100), 44100, 1, wavio.PCM16) }, ""},
 		{"silent", func(p string) error { return wavio.WriteFile(p, make([]float64, 16000), 16000, 1, wavio.PCM16) }, "is silent"},
 		{"empty", func(p string) error { return wavio.WriteFile(p, nil, 16000, 1, wavio.PCM16) }, "is silent"},
 	}

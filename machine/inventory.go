@@ -60,22 +60,42 @@ type Recording struct {
 	Session string `json:"session,omitempty"`
 	// Group is the split unit: the session folder when there is one, else
 	// the recording itself.
-	Group   string       `json:"group"`
-	SHA256  string       `json:"sha256"`
-	Format  wavio.Format `json:"format"`
-	Frames  int64        `json:"frames"`
-	Seconds float64      `json:"seconds"`
-	Clips   []Clip       `json:"clips"`
-	Levels  *Levels      `json:"levels,omitempty"`
+	Group    string       `json:"group"`
+	SHA256   string       `json:"sha256"`
+	Format   wavio.Format `json:"format"`
+	Frames   int64        `json:"frames"`
+	Seconds  float64      `json:"seconds"`
+	Clips    []Clip       `json:"clips"`
+	Levels   *Levels      `json:"levels,omitempty"`
+	Warnings []string     `json:"warnings,omitempty"`
 	// Quality is what the quality gate measured (nil when the samples
 	// could not be read or checked).
-	Quality  *QualityStats `json:"quality,omitempty"`
-	Warnings []string      `json:"warnings,omitempty"`
+	Quality *QualityStats `json:"quality,omitempty"`
 	// Accepted is the plant's reason ([[quality.accept]]) for using the
 	// recording although the gate would exclude it; AcceptedOver is the
 	// gate's finding it overrides.
 	Accepted     string `json:"accepted,omitempty"`
 	AcceptedOver string `json:"accepted_over,omitempty"`
+	// File is the source file relative to the recordings root when Rel
+	// names one channel of it (channel mode "each": Rel is File + "#chN").
+	File string `json:"file,omitempty"`
+	// Channel is the channel this stream reads, counted from 1 (channel
+	// modes "N" and "each"); 0 for the channel mean.
+	Channel int `json:"channel,omitempty"`
+	// WorkRate is the plant's working rate. When the file's rate differs,
+	// its samples are resampled to it (Resample holds the exact ratio
+	// "out/in", e.g. "1/3") and Clips count working-rate frames.
+	WorkRate int    `json:"work_rate,omitempty"`
+	Resample string `json:"resample,omitempty"`
+	// BandwidthHz is the machine's harmonised bandwidth (see Scan); 0 when
+	// every recording of the machine is at the working rate and none is set.
+	// Lowpass says whether this recording's clips are low-passed to it
+	// (those whose own band is already that narrow are not).
+	BandwidthHz float64 `json:"bandwidth_hz,omitempty"`
+	Lowpass     bool    `json:"lowpass,omitempty"`
+	// BeyondFullScale marks float samples beyond ±1: sensor data in physical
+	// units (an accelerometer in g), read unchanged and never called clipped.
+	BeyondFullScale bool `json:"beyond_full_scale,omitempty"`
 	// Err is why the recording cannot be used (unreadable, wrong rate, a
 	// *SampleError for its samples, a *QualityError from the gate).
 	Err error `json:"-"`
@@ -104,14 +124,24 @@ type Problem struct {
 	Machine   string `json:"machine,omitempty"`
 	Condition string `json:"condition,omitempty"`
 	Path      string `json:"path,omitempty"`
-	// Kind is one of unreadable, rate-mismatch, no-recordings, short,
-	// duplicate (the same content as an earlier recording of the machine),
-	// unknown-folder, unknown-condition, warning, the sample problems
-	// non-finite, absurd-sample and silent (see SampleError), and the
-	// quality gate's clipped, dc-offset and quiet (see QualityError).
+	// Kind is one of unreadable, unknown-format, bad-channel,
+	// no-recordings, short, duplicate (the same content as an earlier
+	// recording of the machine), unknown-folder, unknown-condition, warning,
+	// not-full-scale (a note: float sensor data beyond ±1, read unchanged),
+	// the sample problems non-finite, absurd-sample and silent (see
+	// SampleError), and the quality gate's clipped, dc-offset and quiet (see
+	// QualityError).
 	Kind string `json:"kind"`
 	Msg  string `json:"message"`
 }
+
+// ProblemNotFullScale is the kind of the note on float sensor data beyond
+// ±1: information, not a fault of the file.
+const ProblemNotFullScale = "not-full-scale"
+
+// Note reports whether the problem is only information (see
+// ProblemNotFullScale): survey --strict does not count it.
+func (p Problem) Note() bool { return p.Kind == ProblemNotFullScale }
 
 func (p Problem) String() string {
 	loc := p.Path
@@ -190,15 +220,20 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 		for j := range m.Conditions {
 			c := &m.Conditions[j]
 			dir := filepath.Join(root, m.ID, c.Name)
-			files, err := wavFiles(dir)
+			files, others, err := audioFiles(dir)
 			if err != nil && !errors.Is(err, fs.ErrNotExist) {
 				// an unreadable folder is named with its cause, not taken
 				// for an empty one
 				inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Kind: "unreadable", Msg: fmt.Sprintf("condition folder %s: %v; its recordings are not used", filepath.ToSlash(filepath.Join(m.ID, c.Name)), err)})
 				continue
 			}
+			for _, f := range others {
+				rel, _ := filepath.Rel(root, f)
+				inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: filepath.ToSlash(rel), Kind: "unknown-format",
+					Msg: fmt.Sprintf("unknown format %q; not used (supported: %s; convert the file, or move it out of the recordings tree)", filepath.Ext(f), strings.Join(AudioExtensions(), ", "))})
+			}
 			if len(files) == 0 {
-				inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Kind: "no-recordings", Msg: "condition has no recordings (" + filepath.ToSlash(filepath.Join(m.ID, c.Name)) + "/*.wav)"})
+				inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Kind: "no-recordings", Msg: "condition has no recordings (" + filepath.ToSlash(filepath.Join(m.ID, c.Name)) + "/*.wav or *.flac)"})
 				continue
 			}
 			for _, f := range files {
@@ -218,27 +253,50 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 					}
 				}
 				if rec != nil {
-					inv.Recordings = append(inv.Recordings, rec)
+					inv.Recordings = append(inv.Recordings, inv.splitChannels(m, c, rec)...)
 				}
 			}
 		}
+		inv.harmonise(m)
 	}
 	return inv, nil
 }
 
-func wavFiles(dir string) ([]string, error) {
-	var out []string
-	err := filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
+// AudioExtensions are the file name extensions Scan reads as recordings
+// (any case); every other file in a condition folder is reported as an
+// unknown format.
+func AudioExtensions() []string { return []string{".wav", ".flac"} }
+
+// audioFiles lists the recordings below dir, sorted, and the other files.
+// Names starting with "." (files and folders: .DS_Store, editor and
+// version-control files) are hidden and skipped without a report.
+func audioFiles(dir string) (audio, others []string, err error) {
+	err = filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
 		if err != nil {
 			return err
 		}
-		if !d.IsDir() && strings.EqualFold(filepath.Ext(p), ".wav") {
-			out = append(out, p)
+		if p != dir && strings.HasPrefix(d.Name(), ".") {
+			if d.IsDir() {
+				return filepath.SkipDir
+			}
+			return nil
 		}
+		if d.IsDir() {
+			return nil
+		}
+		ext := strings.ToLower(filepath.Ext(p))
+		for _, e := range AudioExtensions() {
+			if ext == e {
+				audio = append(audio, p)
+				return nil
+			}
+		}
+		others = append(others, p)
 		return nil
 	})
-	sort.Strings(out)
-	return out, err
+	sort.Strings(audio)
+	sort.Strings(others)
+	return audio, others, err
 }
 
 // scanOne reads one recording; row, when not nil, is its manifest row,
@@ -280,7 +338,7 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 		return nil, nil
 	}
 	th := p.Quality.Thresholds()
-	sum, lv, qs, se, r, err := hashAndRead(ctx, file, levels, th)
+	sum, lv, qs, se, r, err := hashAndRead(ctx, file, th)
 	if cerr := ctx.Err(); cerr != nil {
 		return nil, cerr
 	}
@@ -290,7 +348,11 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 		problem("unreadable", "%v", err)
 		return rec, nil
 	}
-	rec.Format, rec.Frames, rec.Warnings, rec.Levels, rec.Quality = r.Format(), r.Frames(), r.Warnings(), lv, qs
+	rec.Format, rec.Frames, rec.Warnings = r.Format(), r.Frames(), r.Warnings()
+	if levels && (se == nil || se.Kind == SampleSilent) {
+		rec.Levels = lv
+	}
+	rec.Quality = qs
 	for _, w := range rec.Warnings {
 		problem("warning", "%s", w)
 	}
@@ -300,6 +362,14 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 		rec.Err = se
 		problem(se.Kind, "%v; not used", se)
 		return rec, nil
+	}
+	if rec.Format.Float && lv.PeakDBFS > 0 {
+		rec.BeyondFullScale = true
+		lv.Clipped = 0
+		if qs != nil {
+			qs.Clipped = 0 // as the note says: clipping is not assessed
+		}
+		problem(ProblemNotFullScale, "not full-scale audio, peak %.3g; read unchanged (sensor data in its own units), clipping not assessed", math.Pow(10, lv.PeakDBFS/20))
 	}
 	if qe := th.Gate(qs); qe != nil {
 		if why := p.Quality.Accepted(rel); why != "" {
@@ -312,12 +382,14 @@ func (inv *Inventory) scanOne(ctx context.Context, p *Plant, m *Machine, c *Cond
 	}
 	rate := rec.Format.SampleRate
 	rec.Seconds = float64(rec.Frames) / float64(rate)
+	work := rec.Frames
 	if rate != p.SampleRate {
-		rec.Err = fmt.Errorf("sample rate %d Hz, the plant's working rate is %d Hz", rate, p.SampleRate)
-		problem("rate-mismatch", "%v", rec.Err)
-		return rec, nil
+		rs := ratePlan(rate, p.SampleRate)
+		rec.WorkRate = p.SampleRate
+		rec.Resample = resampleRatio(rate, p.SampleRate)
+		work = int64(rs.Len(int(rec.Frames)))
 	}
-	rec.Clips = CutClips(rec.Frames, p.ClipFrames(), p.Remainder)
+	rec.Clips = CutClips(work, p.ClipFrames(), p.Remainder)
 	if len(rec.Clips) == 0 {
 		problem("short", "%.2f s is shorter than one clip (%g s)", rec.Seconds, p.ClipSeconds)
 	}
@@ -414,9 +486,10 @@ func CheckSamples(x []float64, channels int) *SampleError {
 }
 
 // hashAndRead hashes the file's bytes, parses its header and decodes every
-// sample in one pass: the samples are checked (see SampleError) and, with
-// levels, measured. Every read fails with ctx's error once ctx is done.
-func hashAndRead(ctx context.Context, file string, levels bool, th Thresholds) (string, *Levels, *QualityStats, *SampleError, *wavio.Reader, error) {
+// sample in one pass: the samples are checked (see SampleError) and
+// measured, the quality gate's measures included. Every read fails with
+// ctx's error once ctx is done.
+func hashAndRead(ctx context.Context, file string, th Thresholds) (string, *Levels, *QualityStats, *SampleError, *wavio.Reader, error) {
 	of, err := os.Open(file)
 	if err != nil {
 		return "", nil, nil, nil, nil, err
@@ -441,9 +514,6 @@ func hashAndRead(ctx context.Context, file string, levels bool, th Thresholds) (
 	}
 	if se != nil {
 		qs = nil
-	}
-	if !levels || (se != nil && se.Kind != SampleSilent) {
-		lv = nil
 	}
 	if err := drain(h, f); err != nil {
 		return "", nil, nil, nil, nil, err
@@ -482,7 +552,10 @@ func measure(r *wavio.Reader, th Thresholds) (*Levels, *QualityStats, *SampleErr
 			if kind, ok := badSample(x); ok && bad == nil {
 				idx := n + int64(i)
 				bad = &SampleError{Kind: kind, Frame: idx / int64(ch), Channel: int(idx % int64(ch)),
-					Offset: r.DataOffset() + idx*int64(format.BitDepth/8), Value: x}
+					Offset: -1, Value: x}
+				if r.DataOffset() >= 0 {
+					bad.Offset = r.DataOffset() + idx*int64(format.BitDepth/8)
+				}
 			}
 		}
 		n += int64(k * ch)
@@ -510,15 +583,20 @@ func measure(r *wavio.Reader, th Thresholds) (*Levels, *QualityStats, *SampleErr
 // DB is 10·log10(power), −Inf for zero power.
 func DB(power float64) float64 { return 10 * math.Log10(power) }
 
-// ReadSpan reads frames [start, start+frames) of a recording, mixed to
-// mono (the channel mean), into dst (nil or short allocates). The span must
-// lie inside the recording: nothing is padded.
+// ReadSpan reads frames [start, start+frames) of a recording, as mono
+// working-rate samples like ReadClips (the channel mean unless its channel
+// mode picks one; resampled and band-limited as Scan decided), into dst
+// (nil or short allocates). Frames count at the working rate (see
+// WorkFrames). The span must lie inside the recording: nothing is padded.
 func (r *Recording) ReadSpan(dst []float64, start, frames int64) ([]float64, error) {
 	if r.Err != nil {
 		return nil, r.Err
 	}
-	if start < 0 || frames < 0 || start+frames > r.Frames {
-		return nil, fmt.Errorf("machine: %s: span %d+%d outside its %d frames", r.Rel, start, frames, r.Frames)
+	if total := r.WorkFrames(); start < 0 || frames < 0 || start+frames > total {
+		return nil, fmt.Errorf("machine: %s: span %d+%d outside its %d frames", r.Rel, start, frames, total)
+	}
+	if r.converted() || r.Format.Codec != "" {
+		return r.readSpanConverted(dst, start, frames)
 	}
 	f, err := wavio.Open(r.Path)
 	if err != nil {
@@ -563,12 +641,16 @@ func (r *Recording) ReadSpan(dst []float64, start, frames int64) ([]float64, err
 	return dst, nil
 }
 
-// ReadClips streams the clips of a recording in order, mixed to mono (the
-// channel mean), calling fn with each clip's samples. The slice is reused
-// between calls.
+// ReadClips streams the clips of a recording in order as mono working-rate
+// samples (the channel mean, or the channel of its channel mode; resampled
+// and band-limited as Scan decided), calling fn with each clip's samples.
+// The slice is reused between calls.
 func (r *Recording) ReadClips(fn func(c Clip, x []float64) error) error {
 	if r.Err != nil {
 		return r.Err
+	}
+	if r.converted() {
+		return r.readConverted(fn)
 	}
 	f, err := wavio.Open(r.Path)
 	if err != nil {

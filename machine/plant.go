@@ -103,6 +103,15 @@ type Machine struct {
 	// Features overrides the plant's feature settings for this machine
 	// (keys given here replace the plant's).
 	Features *FeatureConfig `toml:"features"`
+	// Channels says how multichannel recordings become the mono streams
+	// the stages work on (a condition may override it): "mean" (default),
+	// "N" (channel N alone, counted from 1) or "each" (every channel its
+	// own stream). See ChannelMode.
+	Channels string `toml:"channels"`
+	// BandwidthHz, when set, is the band every clip of the machine is
+	// low-passed to; otherwise, when its recordings come at different rates,
+	// the narrowest source bandwidth (0.45 × the lowest rate). See Scan.
+	BandwidthHz float64 `toml:"bandwidth_hz"`
 }
 
 // FeatureConfig sets the features stage. Zero values mean the defaults of
@@ -148,6 +157,8 @@ type Condition struct {
 	HoldOut bool `toml:"hold_out"`
 	// Recipe overrides the machine's recipe for this condition.
 	Recipe string `toml:"recipe"`
+	// Channels overrides the machine's channel mode for this condition.
+	Channels string `toml:"channels"`
 }
 
 // Bearing is a rolling-element bearing's geometry. Only the ratio of the two

@@ -91,8 +91,15 @@ func TestScanSampleProblems(t *testing.T) {
 				continue
 			}
 			if c.kind == "" {
-				if !rec.Usable() || len(probs) != 0 {
-					t.Errorf("%s: usable %v, problems %v; want usable and none", c.name, rec.Usable(), probs)
+				// Float data beyond ±1 is noted (not full-scale audio, its
+				// peak), never called clipped.
+				beyond := c.enc == wavio.Float32 && c.name != "tone"
+				note := len(probs) == 1 && probs[0].Kind == "not-full-scale" && strings.Contains(probs[0].Msg, "not full-scale audio, peak")
+				if !rec.Usable() || beyond != note || (!beyond && len(probs) != 0) || rec.BeyondFullScale != beyond {
+					t.Errorf("%s: usable %v, beyond full scale %v, problems %v; want usable, and a not-full-scale note only for data beyond ±1", c.name, rec.Usable(), rec.BeyondFullScale, probs)
+				}
+				if levels && beyond && rec.Levels.Clipped != 0 {
+					t.Errorf("%s: clipped fraction %v for data beyond full scale, want 0 (not assessed)", c.name, rec.Levels.Clipped)
 				}
 				continue
 			}

@@ -37,6 +37,9 @@ type SurveyRow struct {
 	WorstQuality *QualityStats `json:"worst_quality,omitempty"`
 	Excluded     int           `json:"excluded"`
 	Problems     int           `json:"problems"`
+	// BandwidthHz is the machine's harmonised bandwidth (see Scan), 0 when
+	// nothing is band-limited.
+	BandwidthHz float64 `json:"bandwidth_hz,omitempty"`
 }
 
 // Score is how close a recording's quality is to the gate: 1 at a
@@ -108,6 +111,7 @@ func Summarise(inv *Inventory) *Survey {
 				if r.Err != nil {
 					continue
 				}
+				row.BandwidthHz = max(row.BandwidthHz, r.BandwidthHz)
 				row.Clips += len(r.Clips)
 				row.Seconds += r.Seconds
 				if lv := r.Levels; lv != nil {
@@ -183,6 +187,30 @@ func (s *Survey) WriteText(w io.Writer) error {
 	}
 	if err := tw.Flush(); err != nil {
 		return err
+	}
+	// Harmonised bandwidths, one line per machine that has one.
+	done := map[string]bool{}
+	for _, r := range s.Rows {
+		if r.BandwidthHz == 0 || done[r.Machine] {
+			continue
+		}
+		done[r.Machine] = true
+		var rates []int
+		for _, q := range s.Rows {
+			if q.Machine == r.Machine {
+				rates = append(rates, q.SampleRates...)
+			}
+		}
+		set := map[int]bool{}
+		for _, x := range rates {
+			set[x] = true
+		}
+		if _, err := fmt.Fprintf(w, "\n%s: every clip low-passed to %g Hz (source rates %s Hz, resampled to the working rate)", r.Machine, r.BandwidthHz, ints(keys(set))); err != nil {
+			return err
+		}
+	}
+	if len(done) > 0 {
+		fmt.Fprintln(w)
 	}
 	t := s.Thresholds
 	fmt.Fprintf(w, "quality gate: clipped ≤ %g %% (flat tops of ≥ %d samples within %g dB of full scale), |DC| ≤ %g, RMS ≥ %g dBFS\n",

@@ -502,6 +502,13 @@ func (v *validator) machine(p *Plant, m *Machine, mi int, loc, key string, rooms
 			v.bad(bloc, k+".shaft", "shaft", "shaft %d does not exist (0 … %d)", b.Shaft, len(m.Gears))
 		}
 	}
+	v.channels(loc, key+".channels", m.Channels)
+	if m.BandwidthHz != 0 {
+		v.rangeCheck(loc, key+".bandwidth_hz", "bandwidth_hz", m.BandwidthHz, 20, MaxBandwidth*float64(p.SampleRate), "Hz")
+	}
+	for i := range m.Conditions {
+		v.channels(fmt.Sprintf("%s.condition.%d", loc, i), fmt.Sprintf("%s.condition[%d].channels", key, i), m.Conditions[i].Channels)
+	}
 	if len(m.Conditions) == 0 {
 		v.bad(loc, key+".condition", "[[machine.condition]]", "a machine needs at least one [[machine.condition]]")
 	}
@@ -588,4 +595,12 @@ func (v *validator) faults(p *Plant, m *Machine, f *FaultPlan, set *faultsPresen
 		f.JitterPercent = &j
 	}
 	v.rangeCheck(loc, key+".jitter_percent", "jitter_percent", *f.JitterPercent, 0, 10, "%")
+}
+
+// channels checks a channel mode: "", "mean", "each" or a channel number
+// from 1.
+func (v *validator) channels(loc, key, mode string) {
+	if _, _, err := ParseChannels(mode); err != nil {
+		v.bad(loc, key, "channels", "%v", err)
+	}
 }

@@ -62,8 +62,14 @@ func runSurvey(ctx context.Context, g *globals, o surveyOptions, plantPath strin
 	if err != nil {
 		return err
 	}
-	if o.Strict && (len(s.Problems) > 0 || !s.Preflight.OK()) {
-		return &problemsError{fmt.Sprintf("survey found %d problem(s) and %d preflight error(s)", len(s.Problems), len(s.Preflight.Errors))}
+	faults := 0
+	for _, p := range s.Problems {
+		if !p.Note() {
+			faults++
+		}
+	}
+	if o.Strict && (faults > 0 || !s.Preflight.OK()) {
+		return &problemsError{fmt.Sprintf("survey found %d problem(s) and %d preflight error(s)", faults, len(s.Preflight.Errors))}
 	}
 	return nil
 }

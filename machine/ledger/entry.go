@@ -64,7 +64,8 @@ type Entry struct {
 	Source       string `json:"source"`
 	SourceSHA256 string `json:"source_sha256"`
 	// Clip is the clip index inside the source; ClipStart and ClipFrames
-	// locate it in frames.
+	// locate it in frames at the working rate (SampleRate), also for a
+	// resampled source.
 	Clip       int            `json:"clip"`
 	ClipStart  int64          `json:"clip_start"`
 	ClipFrames int64          `json:"clip_frames"`
@@ -77,6 +78,18 @@ type Entry struct {
 	Variant    int    `json:"variant"`
 	Seed       uint64 `json:"seed"`
 	SampleRate int    `json:"sample_rate"`
+	// SourceRate and Resample are the source recording's rate and the
+	// exact conversion ratio out/in ("1/3") when it was resampled to
+	// SampleRate; absent otherwise.
+	SourceRate int    `json:"source_rate,omitempty"`
+	Resample   string `json:"resample,omitempty"`
+	// BandwidthHz is the band the clip was limited to when the machine's
+	// recordings come at different rates or the plant sets bandwidth_hz
+	// (see machine.Scan); absent otherwise.
+	BandwidthHz float64 `json:"bandwidth_hz,omitempty"`
+	// Channel is the source channel (from 1) when the channel mode reads
+	// one channel rather than the mean.
+	Channel int `json:"channel,omitempty"`
 	// Speed is the total speed ratio applied (1 when none): the clip's actual
 	// shaft rate is the condition's rpm/60 times Speed.
 	Speed float64 `json:"speed"`
@@ -86,7 +99,8 @@ type Entry struct {
 	// lines with a speed step.
 	SpeedDrawn float64      `json:"speed_drawn,omitempty"`
 	Steps      []StepRecord `json:"steps,omitempty"`
-	// Scale is the factor applied at the end to keep the mix from clipping
+	// Scale is the factor applied at the end to keep the mix (or a recorded
+	// clip of sensor data beyond ±1, for PCM outputs) from clipping
 	// (1 when none was needed).
 	Scale float64 `json:"scale"`
 	// Backgrounds lists the background ids mixed into this output.

@@ -1,6 +1,7 @@
 package wavio
 
 import (
+	"bytes"
 	"io"
 	"math"
 	"math/rand/v2"
@@ -134,4 +135,32 @@ func BenchmarkWriteWAV(b *testing.B) {
 			}
 		}
 	})
+}
+
+// FLAC decoding against WAV decoding of the same samples (SoX's decode of
+// the fixture): throughput per decoded sample byte of the 24-bit stereo
+// fixture.
+func BenchmarkFLACDecode(b *testing.B) {
+	for _, name := range []string{"s24-stereo.flac", "s24-stereo.ref.wav"} {
+		b.Run(name, func(b *testing.B) {
+			path := filepath.Join("testdata", "flac", name)
+			data, err := os.ReadFile(path)
+			if err != nil {
+				b.Fatal(err)
+			}
+			buf := make([]float64, 4096)
+			b.SetBytes(12000 * 2 * 3)
+			for i := 0; i < b.N; i++ {
+				r, err := NewReader(bytes.NewReader(data), name, int64(len(data)))
+				if err != nil {
+					b.Fatal(err)
+				}
+				for {
+					if _, err := r.ReadFrames(buf); err != nil {
+						break
+					}
+				}
+			}
+		})
+	}
 }

@@ -28,7 +28,7 @@ func Example() {
 		fmt.Println(n, dst)
 	}
 	// Output:
-	// {SampleRate:16000 Channels:2 BitDepth:16 ValidBits:16 Float:false Extensible:false}, 2 frames
+	// {SampleRate:16000 Channels:2 BitDepth:16 ValidBits:16 Float:false Extensible:false Codec:}, 2 frames
 	// 1 [0.5 -0.25]
 	// 1 [0.999969482421875 -1]
 }

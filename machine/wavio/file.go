@@ -124,6 +124,9 @@ func (a *Audio) Mono(dst []float64) []float64 {
 // incomplete frame it refuses too.
 func (f *File) SeekFrame(k int64) error {
 	r := f.Reader
+	if r.format.Codec != "" {
+		return fmt.Errorf("wavio: %s: cannot seek in a %s stream (its frames have no fixed offset); read forward with Skip", r.name, r.format.Codec)
+	}
 	al := int64(r.align)
 	total := r.read + r.remain/al // frames in the data chunk as declared (clamped to the file)
 	if r.frames >= 0 {

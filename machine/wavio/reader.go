@@ -23,6 +23,10 @@ type Format struct {
 	Float bool
 	// Extensible is true when the header was WAVE_FORMAT_EXTENSIBLE (0xFFFE).
 	Extensible bool
+	// Codec is "" for WAV and CodecFLAC for a FLAC stream (decoded to the
+	// same PCM: BitDepth is then the container the samples are widened to,
+	// ValidBits the stream's bits per sample).
+	Codec string `json:",omitempty"`
 }
 
 type sampleKind uint8
@@ -74,7 +78,8 @@ type Reader struct {
 }
 
 // NewReader parses the RIFF/WAVE header of r up to the start of the data
-// chunk. name is used in errors and warnings. size is the total size of the
+// chunk, or, for a stream that starts with "fLaC", the FLAC metadata (the
+// frames are then decoded as they are read; see Format.Codec). name is used in errors and warnings. size is the total size of the
 // stream in bytes, or -1 if unknown; with a known size a data chunk that
 // claims more bytes than the file holds is clamped at once, otherwise the
 // clamp happens when the stream ends.
@@ -84,6 +89,12 @@ type Reader struct {
 // from r.
 func NewReader(r io.Reader, name string, size int64) (*Reader, error) {
 	rd := &Reader{name: name, src: bufio.NewReaderSize(r, blockBytes), frames: -1, remain: -1}
+	if magic, _ := rd.src.Peek(4); string(magic) == flacMagic {
+		if err := rd.openFLAC(); err != nil {
+			return nil, err
+		}
+		return rd, nil
+	}
 	if err := rd.parse(size); err != nil {
 		return nil, err
 	}
@@ -100,7 +111,8 @@ func (r *Reader) Format() Format { return r.format }
 func (r *Reader) Frames() int64 { return r.frames }
 
 // DataOffset returns the file offset of the first sample byte: frame f,
-// channel c starts at DataOffset() + (f·Channels + c)·BitDepth/8.
+// channel c starts at DataOffset() + (f·Channels + c)·BitDepth/8. It is
+// −1 for a FLAC stream, whose samples have no fixed offset.
 func (r *Reader) DataOffset() int64 { return r.data }
 
 // Warnings returns what the reader tolerated: clamped data sizes, a trailing

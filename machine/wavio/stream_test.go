@@ -287,11 +287,11 @@ func TestTolerated(t *testing.T) {
 		warn   string
 	}{
 		{"second fmt", triff(tchunk("fmt ", tfmt(1, 1, 8000, 16)), tchunk("fmt ", tfmt(3, 2, 8000, 32)), data),
-			Format{8000, 1, 16, 16, false, false}, []float64{float64(0x123F) / 32768, -1}, "second fmt chunk"},
+			Format{8000, 1, 16, 16, false, false, ""}, []float64{float64(0x123F) / 32768, -1}, "second fmt chunk"},
 		{"ext 0 valid bits", triff(tchunk("fmt ", tfmtExt(1, 1, 8000, 16, 0)), data),
-			Format{8000, 1, 16, 16, false, true}, []float64{float64(0x123F) / 32768, -1}, "0 valid bits"},
+			Format{8000, 1, 16, 16, false, true, ""}, []float64{float64(0x123F) / 32768, -1}, "0 valid bits"},
 		{"12-bit", triff(tchunk("fmt ", tfmt(1, 1, 8000, 12)), data),
-			Format{8000, 1, 16, 12, false, false}, []float64{float64(0x1230) / 32768, -1}, ""},
+			Format{8000, 1, 16, 12, false, false, ""}, []float64{float64(0x1230) / 32768, -1}, ""},
 	} {
 		r, err := NewReader(bytes.NewReader(tc.in), "", -1)
 		if err != nil {

@@ -1,4 +1,4 @@
-package augment
+package dsp
 
 import (
 	"fmt"
@@ -59,7 +59,7 @@ func TestSpeedMovesLines(t *testing.T) {
 	for _, r := range testRatios {
 		for _, f := range []float64{1000, 3210.5} {
 			x := tone(16000, f, fs, 0.5, 0.3)
-			y := Speed{Ratio: r}.Apply(nil, x, fs)
+			y := NewResampler(r).Apply(nil, x)
 			got := peakFreq(t, y, fs, f*r-50, f*r+50)
 			if math.Abs(got-f*r) > 1e-5*f*r {
 				t.Errorf("r %v: tone %v Hz went to %.5f Hz, want %.5f", r, f, got, f*r)
@@ -182,8 +182,8 @@ func TestSpeedPlans(t *testing.T) {
 		t.Error("plan not cached")
 	}
 	x := tone(1000, 440, 16000, 0.5, 0)
-	a := Speed{Ratio: 1.03}.Apply(nil, x, 16000)
-	b := Speed{Ratio: 1.03, Plans: &p}.Apply(nil, x, 16000)
+	a := NewResampler(1.03).Apply(nil, x)
+	b := p.Resampler(1.03).Apply(nil, x)
 	if fmt.Sprint(a) != fmt.Sprint(b) {
 		t.Error("cached plan gives a different result")
 	}
@@ -204,7 +204,7 @@ func TestSpeedPanics(t *testing.T) {
 
 func TestSpeedIdentity(t *testing.T) {
 	x := randn(1000, 4)
-	y := Speed{Ratio: 1}.Apply(nil, x, 16000)
+	y := NewResampler(1).Apply(nil, x)
 	for i := range x {
 		if y[i] != x[i] {
 			t.Fatalf("ratio 1 changed sample %d", i)
@@ -219,7 +219,7 @@ func TestPlansConcurrent(t *testing.T) {
 	want := NewResampler(1.02).Apply(nil, x)
 	done := make(chan []float64)
 	for g := 0; g < 4; g++ {
-		go func() { done <- Speed{Ratio: 1.02, Plans: &p}.Apply(nil, x, 16000) }()
+		go func() { done <- p.Resampler(1.02).Apply(nil, x) }()
 	}
 	for g := 0; g < 4; g++ {
 		y := <-done
