@@ -324,7 +324,7 @@ func ImportTree(root, plantDir string, opt ImportOptions) (*Import, error) {
 	b.WriteString("\n# TODO: a [[room]], [[zone]], [[background]] and a [[recipe]] to make variants; see thrum init DIR\n# for a commented example of each.\n")
 	for _, id := range order {
 		fmt.Fprintf(&b, "\n[[machine]]\nid = %q\n", id)
-		fmt.Fprintf(&b, "kind = %q  # TODO: one of %s\n", guessKind(id), strings.Join(MachineKinds(), ", "))
+		fmt.Fprintf(&b, "kind = %q  # TODO: choose from %s\n", guessKind(id), strings.Join(MachineKinds(), ", "))
 		b.WriteString("# blades = 0  # TODO: fan blades or pump vanes\n")
 		b.WriteString("# [[machine.bearing]]  # TODO: balls, ball_diameter_mm, pitch_diameter_mm, contact_angle_deg\n")
 		for _, c := range machines[id] {

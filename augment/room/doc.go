@@ -143,7 +143,7 @@
 // # Not modelled
 //
 // Source and microphone directivity, scattering in the early part, room
-// modes in the tail, air absorption (ISO 9613-1 gives 4.66 dB/km at 1 kHz, 20 °C, 50 % RH, i.e.
+// modes in the tail, absorption by the air (ISO 9613-1 gives 4.66 dB/km at 1 kHz, 20 °C, 50 % RH, i.e.
 // 1.6 dB per second of decay against 60 dB per RT60 from the walls: a few
 // per cent of T at 1 kHz, more at 4 kHz and above), wall impedance phase,
 // and anything but a rectangular room.
