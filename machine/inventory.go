@@ -244,14 +244,7 @@ func Scan(ctx context.Context, p *Plant, opt ScanOptions) (*Inventory, error) {
 				if err != nil {
 					return nil, err
 				}
-				if rec != nil && rec.Err == nil && rec.SHA256 != "" {
-					if first, ok := seen[rec.SHA256]; ok {
-						rec.Err = fmt.Errorf("same content (sha256 %s) as %s", rec.SHA256, first)
-						inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: rec.Rel, Kind: "duplicate", Msg: fmt.Sprintf("%v; not used", rec.Err)})
-					} else {
-						seen[rec.SHA256] = rec.Rel
-					}
-				}
+				inv.markDuplicate(seen, m, c, rec)
 				if rec != nil {
 					inv.Recordings = append(inv.Recordings, inv.splitChannels(m, c, rec)...)
 				}
@@ -725,4 +718,20 @@ func hashReader(r io.Reader) (string, error) {
 		return "", err
 	}
 	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// markDuplicate refuses a recording whose content an earlier recording of
+// the machine already has (a copy, a hard or symbolic link): it would be a
+// second split group of one sound. seen maps content hashes to the first
+// recording's path; the folder scan and the manifest scan share it.
+func (inv *Inventory) markDuplicate(seen map[string]string, m *Machine, c *Condition, rec *Recording) {
+	if rec == nil || rec.Err != nil || rec.SHA256 == "" {
+		return
+	}
+	if first, ok := seen[rec.SHA256]; ok {
+		rec.Err = fmt.Errorf("same content (sha256 %s) as %s", rec.SHA256, first)
+		inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: rec.Rel, Kind: "duplicate", Msg: fmt.Sprintf("%v; not used", rec.Err)})
+		return
+	}
+	seen[rec.SHA256] = rec.Rel
 }

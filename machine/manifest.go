@@ -149,14 +149,7 @@ func (inv *Inventory) scanManifest(ctx context.Context, p *Plant, want map[strin
 				if err != nil {
 					return err
 				}
-				if rec != nil && rec.Err == nil && rec.SHA256 != "" {
-					if first, ok := seen[rec.SHA256]; ok {
-						rec.Err = fmt.Errorf("same content (sha256 %s) as %s", rec.SHA256, first)
-						inv.Problems = append(inv.Problems, Problem{Machine: m.ID, Condition: c.Name, Path: rec.Rel, Kind: "duplicate", Msg: fmt.Sprintf("%v; not used", rec.Err)})
-					} else {
-						seen[rec.SHA256] = rec.Rel
-					}
-				}
+				inv.markDuplicate(seen, m, c, rec)
 				if rec != nil {
 					inv.Recordings = append(inv.Recordings, rec)
 				}

@@ -5,8 +5,10 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"maps"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strings"
 
@@ -414,7 +416,7 @@ func checkRows(rep *Report, rows []Row, plan Plan, hashes map[string]string) {
 			add(byHash, h, side, r.Path)
 		}
 	}
-	for _, h := range sortedKeys(byHash) {
+	for _, h := range slices.Sorted(maps.Keys(byHash)) {
 		if len(byHash[h]) == 2 {
 			rep.add(RuleExactDup, "identical content in train and eval/test", byHash[h][machine.SplitTrain][0], byHash[h]["eval/test"][0])
 		}
@@ -506,15 +508,6 @@ func short(h string) string {
 	return h
 }
 
-func sortedKeys[V any](m map[string]V) []string {
-	k := make([]string, 0, len(m))
-	for s := range m {
-		k = append(k, s)
-	}
-	sort.Strings(k)
-	return k
-}
-
 // ViolationGroup is the violations of one rule between one pair of
 // machines (or within one machine), for a report that would otherwise be a
 // long flat list.
@@ -541,7 +534,7 @@ func (r *Report) Grouped() []ViolationGroup {
 				set[f[:i]] = true
 			}
 		}
-		ms := sortedKeys(set)
+		ms := slices.Sorted(maps.Keys(set))
 		k := key{v.Rule, strings.Join(ms, " ↔ ")}
 		i, ok := at[k]
 		if !ok {

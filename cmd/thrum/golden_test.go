@@ -3,9 +3,11 @@ package main
 import (
 	"flag"
 	"fmt"
+	"maps"
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strings"
 	"testing"
 
@@ -79,7 +81,7 @@ func TestGolden(t *testing.T) {
 	for k := range want {
 		names[k] = true
 	}
-	for _, name := range sortedKeys(names) {
+	for _, name := range slices.Sorted(maps.Keys(names)) {
 		g, gok := got[name]
 		w, wok := want[name]
 		switch {

@@ -4,8 +4,9 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"maps"
 	"path/filepath"
-	"sort"
+	"slices"
 	"strings"
 	"text/tabwriter"
 	"time"
@@ -167,7 +168,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		rd.Violations = append(rd.Violations, v.String())
 	}
 	fillReport(&rd, p, inv, sres, rep, rows)
-	for _, id := range sortedKeys(reports) {
+	for _, id := range slices.Sorted(maps.Keys(reports)) {
 		m := reports[id]
 		rd.Machines = append(rd.Machines, features.MachineReport{ID: id, Clips: m.clips, Recorded: m.recorded,
 			Augmented: m.augmented, Rejected: m.rejected, Faults: m.faults, Splits: m.splits, Excluded: m.excluded})
@@ -177,7 +178,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		return err
 	}
 	if o.JSON {
-		for _, id := range sortedKeys(reports) {
+		for _, id := range slices.Sorted(maps.Keys(reports)) {
 			m := reports[id]
 			ev := map[string]any{"event": "machine", "machine": id, "clips": m.clips, "recorded": m.recorded,
 				"augmented": m.augmented, "rejected": m.rejected, "faults": m.faults, "splits": m.splits}
@@ -193,7 +194,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	} else {
 		tw := tabwriter.NewWriter(g.stdout, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "machine\tclips\tvariants\trejected\tfault cues\ttrain\teval\ttest\texcluded")
-		for _, id := range sortedKeys(reports) {
+		for _, id := range slices.Sorted(maps.Keys(reports)) {
 			m := reports[id]
 			fmt.Fprintf(tw, "%s\t%d\t%d\t%s\t%s\t%d\t%d\t%d\t%d\n", id, m.clips, m.augmented, counts(m.rejected), counts(m.faults),
 				m.splits[string(machine.SplitTrain)], m.splits[string(machine.SplitEval)], m.splits[string(machine.SplitTest)], m.splits[string(split.Excluded)])
@@ -202,7 +203,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		for _, w := range sres.Warnings {
 			fmt.Fprintf(g.stdout, "split: warning: %s\n", w)
 		}
-		for _, id := range sortedKeys(reports) {
+		for _, id := range slices.Sorted(maps.Keys(reports)) {
 			for _, x := range reports[id].excluded {
 				fmt.Fprintf(g.stdout, "excluded recording: %s\n", x)
 			}
@@ -220,20 +221,7 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 
 func runSplitQuiet(ctx context.Context, p *machine.Plant, out string, _ io.Writer) (*split.Result, error) {
 	// the warnings go to the run summary (and --json), not twice
-	return runSplit(ctx, &globals{stdout: discard{}, stderr: discard{}}, stageOptions{Out: out}, p)
-}
-
-type discard struct{}
-
-func (discard) Write(b []byte) (int, error) { return len(b), nil }
-
-func sortedKeys[V any](m map[string]V) []string {
-	out := make([]string, 0, len(m))
-	for k := range m {
-		out = append(out, k)
-	}
-	sort.Strings(out)
-	return out
+	return runSplit(ctx, &globals{stdout: io.Discard, stderr: io.Discard}, stageOptions{Out: out}, p)
 }
 
 func counts(m map[string]int) string {
@@ -242,7 +230,7 @@ func counts(m map[string]int) string {
 	}
 	var parts []string
 	total := 0
-	for _, k := range sortedKeys(m) {
+	for _, k := range slices.Sorted(maps.Keys(m)) {
 		parts = append(parts, fmt.Sprintf("%s %d", k, m[k]))
 		total += m[k]
 	}

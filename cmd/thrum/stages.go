@@ -3,7 +3,9 @@ package main
 import (
 	"context"
 	"fmt"
+	"maps"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -250,7 +252,7 @@ func runAugmentStage(ctx context.Context, g *globals, o stageOptions, plantPath,
 // could not be measured (the ledger lines hold the same text).
 func printUndefined(g *globals, stage string, sums []augment.Summary) {
 	for _, s := range sums {
-		for _, why := range sortedKeys(s.Undefined) {
+		for _, why := range slices.Sorted(maps.Keys(s.Undefined)) {
 			fmt.Fprintf(g.stderr, "%s: %s: %d variant(s) rejected, %s\n", stage, s.Machine, s.Undefined[why], why)
 		}
 	}

@@ -2,8 +2,9 @@ package ledger
 
 import (
 	"fmt"
+	"maps"
 	"math"
-	"sort"
+	"slices"
 	"strconv"
 )
 
@@ -130,14 +131,14 @@ func visitFloats(e *Entry, fn func(field string, v *float64)) {
 	fn("speed_drawn", &e.SpeedDrawn)
 	for i := range e.Steps {
 		p := e.Steps[i].Params
-		for _, k := range sortedKeys(p) {
+		for _, k := range slices.Sorted(maps.Keys(p)) {
 			v := p[k]
 			fn("steps["+strconv.Itoa(i)+"].params."+k, &v)
 		}
 	}
 	fn("scale", &e.Scale)
 	if f := e.Fault; f != nil {
-		for _, k := range sortedKeys(f.Frequencies) {
+		for _, k := range slices.Sorted(maps.Keys(f.Frequencies)) {
 			v := f.Frequencies[k]
 			fn("fault.frequencies."+k, &v)
 		}
@@ -145,20 +146,11 @@ func visitFloats(e *Entry, fn func(field string, v *float64)) {
 		fn("fault.severity_db", &f.SeverityDB)
 		fn("fault.resonance_hz", &f.ResonanceHz)
 	}
-	for _, k := range sortedKeys(e.Extra) {
+	for _, k := range slices.Sorted(maps.Keys(e.Extra)) {
 		if v, ok := e.Extra[k].(float64); ok {
 			fn("extra."+k, &v)
 		}
 	}
-}
-
-func sortedKeys[V any](m map[string]V) []string {
-	out := make([]string, 0, len(m))
-	for k := range m {
-		out = append(out, k)
-	}
-	sort.Strings(out)
-	return out
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
