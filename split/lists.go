@@ -320,5 +320,15 @@ func readCSV(r io.Reader, required ...string) ([][]string, map[string]int, error
 			return nil, nil, fmt.Errorf("split: csv: missing column %q", h)
 		}
 	}
+	// A carriage return inside a field cannot be carried faithfully by CSV
+	// (readers fold "\r\n" to "\n"), so no value thrum writes holds one and a
+	// field that does is refused rather than read back as something else.
+	for i, rec := range recs {
+		for j, v := range rec {
+			if strings.ContainsRune(v, '\r') {
+				return nil, nil, fmt.Errorf("split: csv record %d (header is 1), column %d: carriage return inside a field", i+1, j+1)
+			}
+		}
+	}
 	return recs[1:], col, nil
 }
