@@ -84,6 +84,7 @@ func checkFeaturesOutputs(t *testing.T, plant, out string) {
 	indexed := map[string]bool{}
 	shape := map[string]string{}
 	uses := map[string]int{}
+	realAnomalous := map[string]int{} // machine/split → real anomalous files
 	for _, r := range recs[1:] {
 		g := func(k string) string { return r[col[k]] }
 		if indexed[g("path")] {
@@ -106,6 +107,9 @@ func checkFeaturesOutputs(t *testing.T, plant, out string) {
 		if (g("origin") == string(machine.OriginSyntheticFault)) != (g("fault_kind") != "") {
 			t.Errorf("%s: origin %s, fault kind %q", g("path"), g("origin"), g("fault_kind"))
 		}
+		if g("origin") == string(machine.OriginRecorded) && g("label") == string(machine.LabelAnomalous) && g("mask_of") == "" {
+			realAnomalous[g("machine")+"/"+g("split")]++
+		}
 		if g("mask_of") != "" {
 			var rec features.MaskRecord
 			if err := json.Unmarshal([]byte(g("mask")), &rec); err != nil || !indexed[g("mask_of")] {
@@ -121,6 +125,14 @@ func checkFeaturesOutputs(t *testing.T, plant, out string) {
 	for _, u := range []string{features.UseTrainNormal, features.UseSyntheticAnomaly, features.UseEval, features.UseTest} {
 		if uses[u] == 0 {
 			t.Errorf("no file of use %s in the demo (uses %v)", u, uses)
+		}
+	}
+	// every machine has real anomalous files on both evaluation sides
+	for _, m := range p.Machines {
+		for _, sp := range []machine.Split{machine.SplitEval, machine.SplitTest} {
+			if realAnomalous[m.ID+"/"+string(sp)] == 0 {
+				t.Errorf("%s: no real anomalous file in %s (%v)", m.ID, sp, realAnomalous)
+			}
 		}
 	}
 	logmel := regexp.MustCompile(`^features/.*/.*-c\d{4}[^.]*(\.mask\d\d)?\.npy$`)

@@ -131,6 +131,9 @@ func TestDemoPipelineCleanAudit(t *testing.T) {
 	if !strings.Contains(stdout, "audit: clean") {
 		t.Errorf("no clean audit verdict in:\n%s", stdout)
 	}
+	if strings.Contains(stderr, "warning") {
+		t.Errorf("the demo run warns:\n%s", stderr)
+	}
 	for _, f := range []string{"splits/lists.csv", "splits/plan.json", "features/index.csv"} {
 		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
 			t.Error(err)

@@ -113,10 +113,16 @@ func Write(dir string, opt Options) (plantPath string, err error) {
 			return "", fmt.Errorf("demoplant: %w", err)
 		}
 		seconds := opt.Seconds
-		if t.background {
+		switch {
+		case t.background:
 			seconds = math.Min(BackgroundSeconds, opt.Seconds)
+		case t.short:
+			seconds = clip
 		}
-		x := s.take(t, seconds)
+		x, err := s.take(t, seconds)
+		if err != nil {
+			return "", err
+		}
 		var b bytes.Buffer
 		b.Grow(2*len(x) + 64)
 		if err := wavio.Encode(&b, x, p.SampleRate, 1, wavio.PCM16); err != nil {
@@ -142,8 +148,24 @@ type take struct {
 	m          *machine.Machine
 	c          *machine.Condition
 	dist       int    // near, mid or far
-	fault      string // "" or "outer-race"
+	fault      string // "", faultOuterRace, faultBladeRub or faultInnerRace
+	short      bool   // one clip long (an anomalous recording kept short)
 	background bool
+}
+
+// Faults of the anomalous recordings.
+const (
+	faultOuterRace = "outer-race" // the pump's drive-end bearing
+	faultBladeRub  = "blade-rub"  // the fan: an unbalanced rotor whose blade tips rub the casing
+	faultInnerRace = "inner-race" // the conveyor's motor-shaft bearing
+)
+
+// anomalies names the fault of each machine/condition with anomalous
+// recordings.
+var anomalies = map[string]string{
+	"pump-p1/duty":     faultOuterRace,
+	"fan-f1/high":      faultBladeRub,
+	"conveyor-c1/full": faultInnerRace,
 }
 
 // plan lists the files of the plant, in a fixed order. Every condition
@@ -152,8 +174,11 @@ type take struct {
 // eval and test): take-01 … take-06 at near, far and mid distances in
 // turn; a hold-out condition, which goes to test whole, gets two takes. The
 // conveyor at full speed has a second visit instead of take-06: a session
-// folder with two takes (one group). The pump's duty condition has two
-// anomalous recordings, so eval and test each get one.
+// folder with two takes (one group). Every machine has two anomalous
+// recordings in a condition that is not held out, so eval and test each get
+// one: the pump's (full length, duty) an outer-race defect, the fan's (one
+// clip long, high speed) a blade rub, the conveyor's (one clip long, full
+// speed) an inner-race defect of the motor-shaft bearing.
 func plan(p *machine.Plant) ([]take, error) {
 	var out []take
 	dists := []int{near, far, mid}
@@ -181,9 +206,11 @@ func plan(p *machine.Plant) ([]take, error) {
 				add(sess+"take-06.wav", near)
 				add(sess+"take-07.wav", mid)
 			}
-			if m.ID == "pump-p1" && c.Name == "duty" {
-				out = append(out, take{path: base + machine.AnomalousDir + "/outer-race-01.wav", m: m, c: c, dist: mid, fault: "outer-race"})
-				out = append(out, take{path: base + machine.AnomalousDir + "/outer-race-02.wav", m: m, c: c, dist: near, fault: "outer-race"})
+			if f, ok := anomalies[m.ID+"/"+c.Name]; ok {
+				for k, dist := range []int{mid, near} {
+					out = append(out, take{path: fmt.Sprintf("%s%s/%s-%02d.wav", base, machine.AnomalousDir, f, k+1),
+						m: m, c: c, dist: dist, fault: f, short: f != faultOuterRace})
+				}
 			}
 		}
 	}

@@ -143,6 +143,8 @@ func TestLayout(t *testing.T) {
 	want := []string{
 		"backgrounds/hall-ambience.wav",
 		"plant.toml",
+		"recordings/conveyor-c1/full/anomalous/inner-race-01.wav",
+		"recordings/conveyor-c1/full/anomalous/inner-race-02.wav",
 		"recordings/conveyor-c1/full/session-visit-02/take-06.wav",
 		"recordings/conveyor-c1/full/session-visit-02/take-07.wav",
 		"recordings/conveyor-c1/full/take-01.wav",
@@ -156,6 +158,8 @@ func TestLayout(t *testing.T) {
 		"recordings/conveyor-c1/half/take-04.wav",
 		"recordings/conveyor-c1/half/take-05.wav",
 		"recordings/conveyor-c1/half/take-06.wav",
+		"recordings/fan-f1/high/anomalous/blade-rub-01.wav",
+		"recordings/fan-f1/high/anomalous/blade-rub-02.wav",
 		"recordings/fan-f1/high/take-01.wav",
 		"recordings/fan-f1/high/take-02.wav",
 		"recordings/fan-f1/high/take-03.wav",
@@ -183,7 +187,7 @@ func TestLayout(t *testing.T) {
 		t.Errorf("files:\n%s\nwant:\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
 	}
 	// The inventory sees every recording, the session and the anomalous
-	// file, with no problems.
+	// files, with no problems.
 	inv, err := machine.Scan(context.Background(), p, machine.ScanOptions{Levels: true})
 	if err != nil {
 		t.Fatal(err)
@@ -210,8 +214,28 @@ func TestLayout(t *testing.T) {
 			t.Errorf("%s not usable: %v", r.Rel, r.Err)
 		}
 	}
-	if len(inv.Recordings) != 35 || sessions != 2 || anomalous != 2 {
-		t.Errorf("inventory: %d recordings, %d in the session, %d anomalous; want 35, 2, 2", len(inv.Recordings), sessions, anomalous)
+	if len(inv.Recordings) != 39 || sessions != 2 || anomalous != 6 {
+		t.Errorf("inventory: %d recordings, %d in the session, %d anomalous; want 39, 2, 6", len(inv.Recordings), sessions, anomalous)
+	}
+	// Every machine has two anomalous groups in a condition that is not
+	// held out, so eval and test each get one.
+	anomGroups := map[string]map[string]bool{}
+	for _, r := range inv.Recordings {
+		if r.Label != machine.LabelAnomalous {
+			continue
+		}
+		if c := p.Machine(r.Machine).Condition(r.Condition); c == nil || c.HoldOut {
+			t.Errorf("%s: anomalous recording in a held-out or unknown condition", r.Rel)
+		}
+		if anomGroups[r.Machine] == nil {
+			anomGroups[r.Machine] = map[string]bool{}
+		}
+		anomGroups[r.Machine][r.Group] = true
+	}
+	for _, m := range p.Machines {
+		if n := len(anomGroups[m.ID]); n != 2 {
+			t.Errorf("%s: %d anomalous groups, want 2", m.ID, n)
+		}
 	}
 	// Enough split groups: six per condition, so that every split gets
 	// one; two for the held-out condition, which goes to test.
@@ -249,6 +273,9 @@ func TestRecordingLevels(t *testing.T) {
 		}
 		x := readWAV(t, filepath.Join(dir, f))
 		want := testSeconds * 16000
+		if strings.Contains(f, "/anomalous/") && !strings.Contains(f, "/outer-race-") {
+			want = ClipSeconds * 16000 // the short anomalous takes: one clip
+		}
 		if len(x) != want {
 			t.Errorf("%s: %d frames, want %d", f, len(x), want)
 		}
@@ -388,44 +415,64 @@ func TestStrongestLine(t *testing.T) {
 	}
 }
 
-// The anomalous recording carries outer-race impacts: the squared envelope
-// of its resonance band peaks at BPFO less slip (Randall & Antoni 2011:
-// envelope analysis of the band an impact rings), the normal take does not.
+// Each machine's anomalous recordings carry their fault's impacts: the
+// squared envelope of the band an impact rings has a line at the impact
+// rate (Randall & Antoni 2011: envelope analysis of the band an impact
+// rings), at least 20× the median of 20 … 1000 Hz, where the normal near
+// take of the same condition has none above 10×. The rates: BPFO of the
+// pump's drive-end bearing and BPFI of the conveyor's motor-shaft bearing
+// less slip, the fan's shaft rate (one tip strike per revolution), within
+// the condition's speed band and three jitter deviations.
 func TestAnomalousEnvelope(t *testing.T) {
 	p, dir := demoPlant(t)
-	m := p.Machine("pump-p1")
-	c := m.Condition("duty")
-	lo, hi := c.Band()
-	bpfo := m.Bearings[0].Orders().BPFO
 	const n = 4096
 	df := float64(p.SampleRate) / n
-	wlo := bpfo*machine.ShaftHz(lo)*(1-faultSlip-3*faultJitter) - 1.5*df
-	whi := bpfo*machine.ShaftHz(hi)*(1-faultSlip+3*faultJitter) + 1.5*df
-	prominence := func(path string) (float64, float64) {
-		x := readWAV(t, path)
-		bandpass(faultResonanceHz, 2, float64(p.SampleRate)).run(x)
-		mean := 0.0
-		for i, v := range x {
-			x[i] = v * v
-			mean += x[i]
+	for _, tc := range []struct {
+		machine, cond, file string
+		resHz               float64
+		order               func(m *machine.Machine) float64 // impact rate per input shaft Hz
+		slip, jitter        float64
+	}{
+		{"pump-p1", "duty", "outer-race-01.wav", faultResonanceHz,
+			func(m *machine.Machine) float64 { return m.Bearings[0].Orders().BPFO }, faultSlip, faultJitter},
+		{"pump-p1", "duty", "outer-race-02.wav", faultResonanceHz,
+			func(m *machine.Machine) float64 { return m.Bearings[0].Orders().BPFO }, faultSlip, faultJitter},
+		{"conveyor-c1", "full", "inner-race-01.wav", innerRaceHz,
+			func(m *machine.Machine) float64 { return m.Bearings[0].Orders().BPFI }, faultSlip, faultJitter},
+		{"conveyor-c1", "full", "inner-race-02.wav", innerRaceHz,
+			func(m *machine.Machine) float64 { return m.Bearings[0].Orders().BPFI }, faultSlip, faultJitter},
+		{"fan-f1", "high", "blade-rub-01.wav", rubResonanceHz,
+			func(*machine.Machine) float64 { return 1 }, 0, rubJitter},
+		{"fan-f1", "high", "blade-rub-02.wav", rubResonanceHz,
+			func(*machine.Machine) float64 { return 1 }, 0, rubJitter},
+	} {
+		m := p.Machine(tc.machine)
+		c := m.Condition(tc.cond)
+		lo, hi := c.Band()
+		order := tc.order(m)
+		wlo := order*machine.ShaftHz(lo)*(1-tc.slip-3*tc.jitter) - 1.5*df
+		whi := order*machine.ShaftHz(hi)*(1-tc.slip+3*tc.jitter) + 1.5*df
+		prominence := func(path string) float64 {
+			x := readWAV(t, path)
+			bandpass(tc.resHz, 2, float64(p.SampleRate)).run(x)
+			mean := 0.0
+			for i, v := range x {
+				x[i] = v * v
+				mean += x[i]
+			}
+			mean /= float64(len(x))
+			for i := range x {
+				x[i] -= mean
+			}
+			return lineProminence(welch(x, n), df, 20, 1000, wlo, whi)
 		}
-		mean /= float64(len(x))
-		for i := range x {
-			x[i] -= mean
+		base := filepath.Join(dir, "recordings", tc.machine, tc.cond)
+		if pr := prominence(filepath.Join(base, machine.AnomalousDir, tc.file)); pr < 13 {
+			t.Errorf("%s/%s: envelope line in %.1f … %.1f Hz %.1f dB above the median, want ≥ 13 dB (20×)", tc.machine, tc.file, wlo, whi, pr)
 		}
-		ps := welch(x, n)
-		f := peakHz(ps, n, float64(p.SampleRate), 20, 1000)
-		band := append([]float64(nil), ps[int(20/df):int(1000/df)]...)
-		sort.Float64s(band)
-		return f, ps[int(math.Round(f/df))] / band[len(band)/2]
-	}
-	dir = filepath.Join(dir, "recordings", "pump-p1", "duty")
-	f, prom := prominence(filepath.Join(dir, "anomalous", "outer-race-01.wav"))
-	if f < wlo || f > whi || prom < 20 {
-		t.Errorf("anomalous: envelope peak at %.1f Hz, %.0f× the median; want %.1f … %.1f Hz, ≥ 20×", f, prom, wlo, whi)
-	}
-	if _, prom := prominence(filepath.Join(dir, "take-01.wav")); prom > 10 {
-		t.Errorf("normal take: envelope peak %.0f× the median, want no clear line", prom)
+		if pr := prominence(filepath.Join(base, "take-01.wav")); pr > 10 {
+			t.Errorf("%s/%s/take-01.wav: envelope line in %.1f … %.1f Hz %.1f dB above the median, want no clear line (≤ 10 dB)", tc.machine, tc.cond, wlo, whi, pr)
+		}
 	}
 }
 

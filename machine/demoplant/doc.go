@@ -14,6 +14,8 @@
 //	recordings/<machine-id>/<condition>/take-NN.wav
 //	recordings/conveyor-c1/full/session-visit-02/take-NN.wav   (a session)
 //	recordings/pump-p1/duty/anomalous/outer-race-01.wav        (a bearing fault)
+//	recordings/fan-f1/high/anomalous/blade-rub-01.wav          (a blade rub)
+//	recordings/conveyor-c1/full/anomalous/inner-race-01.wav    (a bearing fault)
 //	backgrounds/hall-ambience.wav
 //
 // All files are 16 kHz, 16-bit PCM, mono.
@@ -50,16 +52,24 @@
 // room's noise floor do not depend on d, so each take has its own level
 // and direct-to-noise ratio.
 //
-// Every condition has three split groups, enough to fill train, eval and
+// Every condition has six split groups, enough to fill train, eval and
 // test; the held-out one, which goes to test whole, has two. The conveyor
 // at full speed has a session folder (two takes, one group) in place of
 // take-03.
 //
-// The anomalous recording adds outer-race impacts of the pump's drive-end
-// bearing at BPFO (Bearing.Orders times the instantaneous shaft rate) less
+// Every machine has two anomalous recordings in a condition that is not
+// held out, so the split gives eval and test one each. The pump's add
+// outer-race impacts of its drive-end bearing at BPFO (Bearing.Orders times the instantaneous shaft rate) less
 // 1 % slip, with 1 % jitter between impacts, each ringing a 3.4 kHz
 // resonance with damping ratio 0.04; the impact train's RMS is 10 dB below
-// the machine signal's. The background is broadband room noise, hum and a
+// the machine signal's. The fan's and the conveyor's are one clip long and
+// made by the fault-cue models of augment/fault at the take's mean shaft
+// rate: the fan's a rotor unbalance (1× raised to −12 dB re the machine
+// signal) whose blade tips strike the casing once per revolution (an impact
+// train at −14 dB, 0.5 % jitter, ringing 2.6 kHz with damping 0.03); the
+// conveyor's an inner-race defect of the motor-shaft bearing at BPFI less
+// 1 % slip, load-modulated at the shaft rate, ringing 3 kHz with damping
+// 0.05, at −12 dB. The background is broadband room noise, hum and a
 // distant, low-passed blower that is not one of the plant's machines.
 //
 // Levels are in dB re full scale (a sample value of 1): a take whose peak

@@ -1,10 +1,12 @@
 package demoplant
 
 import (
+	"fmt"
 	"hash/fnv"
 	"math"
 	"math/rand/v2"
 
+	"thrum/augment/fault"
 	"thrum/machine"
 )
 
@@ -29,6 +31,21 @@ const (
 	// faultResonanceHz and faultDamping set the ringing of each impact.
 	faultResonanceHz = 3400
 	faultDamping     = 0.04
+	// rubOrdersDB and rubImpactDB are the levels re the machine signal of
+	// a blade rub's raised 1× order (the unbalance) and of its impact train
+	// (one tip strike per revolution); rubResonanceHz and rubDamping set
+	// the casing ring each strike excites, rubJitter the spread of strike
+	// intervals.
+	rubOrdersDB    = -12
+	rubImpactDB    = -14
+	rubResonanceHz = 2600
+	rubDamping     = 0.03
+	rubJitter      = 0.005
+	// innerRaceDB is a bearing inner-race defect's level re the machine
+	// signal; it rings innerRaceHz with innerRaceDamping.
+	innerRaceDB      = -12
+	innerRaceHz      = 3000
+	innerRaceDamping = 0.05
 	// earlyShare is the part of a room's reverberant energy the early
 	// reflections carry; the late tail is left to the room step.
 	earlyShare = 0.35
@@ -426,9 +443,9 @@ func (s *synth) ambient(dst, buf []float64, rng *rand.Rand, g float64) {
 
 // take synthesises one file. The result lives in a work buffer: it is
 // valid until the next call.
-func (s *synth) take(t take, seconds float64) []float64 {
+func (s *synth) take(t take, seconds float64) ([]float64, error) {
 	if t.background {
-		return s.background(t, seconds)
+		return s.background(t, seconds), nil
 	}
 	rng := s.stream("take/" + t.path)
 	n := int(math.Round(seconds * s.rate))
@@ -443,8 +460,14 @@ func (s *synth) take(t take, seconds float64) []float64 {
 	addNoise(src, buf, rng, func(x []float64) { lowpass(x, v.flowHz, s.rate) }, v.flow)
 	level := sourceRMS * math.Pow(t.c.RPM/maxRPM(t.m, false), speedLawDB/20.0)
 	scale(src, level/math.Max(rms(src), 1e-300))
-	if t.fault == "outer-race" {
+	switch t.fault {
+	case "":
+	case faultOuterRace:
 		s.addOuterRace(src, buf, rng, t.m, omega, level)
+	default:
+		if err := s.addCue(src, buf, rng, t, omega, level); err != nil {
+			return nil, fmt.Errorf("demoplant: %s: %w", t.path, err)
+		}
 	}
 
 	d := []float64{0.5, 1, 1.5}[t.dist] + []float64{0.5, 0.5, 0.8}[t.dist]*rng.Float64()
@@ -458,7 +481,64 @@ func (s *synth) take(t take, seconds float64) []float64 {
 	}
 	s.ambient(out, buf, rng, 1)
 	limit(out)
-	return out
+	return out, nil
+}
+
+// addCue adds the fault of an anomalous take made by the fault-cue models
+// of augment/fault (the ones the synthetic training cues use), at the
+// take's mean shaft rate (the speed wanders by well under 1 %), with levels
+// re the machine signal's RMS level:
+//   - faultBladeRub: an unbalanced fan rotor, the raised 1× order, whose
+//     blade tips strike the casing once per revolution: an impact train at
+//     the shaft rate with a little jitter, ringing a casing resonance;
+//   - faultInnerRace: an inner-race defect of the machine's first bearing
+//     at its BPFI less slip, load-modulated at its shaft's rate.
+//
+// Each cue's mean is taken out. buf is scratch of len(src).
+func (s *synth) addCue(src, buf []float64, rng *rand.Rand, t take, omega []float64, level float64) error {
+	mean := 0.0
+	for _, om := range omega {
+		mean += om
+	}
+	shaft := mean / float64(max(len(omega), 1)) * s.rate / (2 * math.Pi)
+	var cues []fault.Cue
+	switch t.fault {
+	case faultBladeRub:
+		cues = []fault.Cue{
+			fault.Orders{Kind: fault.KindImbalance, ShaftHz: shaft, SeverityDB: rubOrdersDB},
+			fault.Impact{RateHz: shaft, JitterFrac: rubJitter, ShaftHz: shaft, ResonanceHz: rubResonanceHz,
+				Damping: rubDamping, SeverityDB: rubImpactDB},
+		}
+	case faultInnerRace:
+		if len(t.m.Bearings) == 0 {
+			return fmt.Errorf("machine %q has no bearing for an inner-race defect", t.m.ID)
+		}
+		b := t.m.Bearings[0]
+		fr := t.m.ShaftRates(shaft)[b.Shaft]
+		r := b.Rates(fr)
+		cues = []fault.Cue{fault.Bearing{Kind: fault.KindInnerRace, ShaftHz: fr, DefectHz: r.BPFI * (1 - faultSlip),
+			CageHz: r.FTF, ResonanceHz: innerRaceHz, Damping: innerRaceDamping, JitterFrac: faultJitter,
+			SeverityDB: innerRaceDB}}
+	default:
+		return fmt.Errorf("unknown fault %q", t.fault)
+	}
+	for _, c := range cues {
+		y, err := c.Synthesize(buf, len(src), s.rate, level, rng)
+		if err != nil {
+			return err
+		}
+		// A ringing impact train has a mean (each ring's damped sine
+		// integrates to about 1/ω_d); a microphone does not pass it.
+		dc := 0.0
+		for _, v := range y {
+			dc += v
+		}
+		dc /= float64(max(len(y), 1))
+		for i, v := range y {
+			src[i] += v - dc
+		}
+	}
+	return nil
 }
 
 // addOuterRace adds impacts of an outer-race spall on the machine's first
