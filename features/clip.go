@@ -43,6 +43,9 @@ type worker struct {
 	feat []float32
 	x    []float64 // reused decode buffer
 	spec []float64 // reused envelope spectrum
+	// power is the log-mel's power spectra summed over a clip's frames,
+	// for the clip summary
+	power []float64
 }
 
 func newWorker(st machineSetup, fs float64) (*worker, error) {
@@ -82,11 +85,20 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			return fail(err)
 		}
 		w.x = x
-		feat, frames = w.lm.Compute(nil, x)
+		if len(w.power) != w.lm.Bins() {
+			w.power = make([]float64, w.lm.Bins())
+		}
+		var power bool
+		feat, frames, power = w.lm.ComputePower(nil, x, w.power)
 		res.feat, res.frames = feat, frames
 		res.row.frames = frames
 		res.moments = ClipMoments(Moments{}, feat, frames, w.st.cfg.Bands)
-		res.row.sum = w.sz.Summarize(x, fs)
+		if power {
+			// the log-mel's own power spectra: the same sums, no second STFT
+			res.row.sum = w.sz.SummarizePower(x, fs, w.power, frames)
+		} else {
+			res.row.sum = w.sz.Summarize(x, fs)
+		}
 		b, sum, err := npyBytes(feat, frames, w.st.cfg.Bands)
 		if err != nil {
 			return fail(err)

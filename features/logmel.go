@@ -76,6 +76,21 @@ func (l *LogMel) FrameSeconds() float64 { return float64(l.cfg.Hop) / l.fs }
 // allocates), row-major frames × bands, and returns them with the frame
 // count. After the first call with a given size it does not allocate.
 func (l *LogMel) Compute(dst []float32, x []float64) (out []float32, frames int) {
+	out, frames, _ = l.ComputePower(dst, x, nil)
+	return out, frames
+}
+
+// ComputePower is Compute that also sets power[k], k = 0..NFFT/2, to the sum
+// over the frames of the frames' power spectra, the same sums a Summarizer
+// of this configuration forms (see Summarizer.SummarizePower), so that clip
+// summaries need no second STFT. It does so, and returns ok, only when the
+// extractor works on power (not Magnitude) and power holds NFFT/2+1 values;
+// otherwise power is left alone. A nil power is Compute.
+func (l *LogMel) ComputePower(dst []float32, x []float64, power []float64) (out []float32, frames int, ok bool) {
+	ok = power != nil && !l.cfg.Magnitude && len(power) == l.stft.Bins()
+	if ok {
+		clear(power)
+	}
 	frames = l.stft.Frames(len(x))
 	nb := l.cfg.Bands
 	if cap(dst) < frames*nb {
@@ -84,11 +99,19 @@ func (l *LogMel) Compute(dst []float32, x []float64) (out []float32, frames int)
 	dst = dst[:frames*nb]
 	for i := range frames {
 		l.stft.Frame(l.spec, x, i)
+		if ok {
+			for k, v := range l.spec {
+				power[k] += v
+			}
+		}
 		l.fb.Apply(l.mel, l.spec)
 		l.logRow(dst[i*nb:(i+1)*nb], l.mel)
 	}
-	return dst, frames
+	return dst, frames, ok
 }
+
+// Bins returns the number of power-spectrum bins per frame, NFFT/2+1.
+func (l *LogMel) Bins() int { return l.stft.Bins() }
 
 // logRow applies the configured log to one row of mel values.
 func (l *LogMel) logRow(dst []float32, mel []float64) {

@@ -70,6 +70,42 @@ func levelDB(a float64) float64 {
 
 // Summarize computes the summary of x sampled at fs Hz.
 func (z *Summarizer) Summarize(x []float64, fs float64) Summary {
+	s := z.timeStats(x, fs)
+	frames := z.stft.Frames(len(x))
+	if len(x) == 0 || frames == 0 {
+		return s
+	}
+	clear(z.acc)
+	for i := range frames {
+		z.stft.Frame(z.spec, x, i)
+		for k, v := range z.spec {
+			z.acc[k] += v
+		}
+	}
+	z.spectral(&s, z.acc, fs)
+	return s
+}
+
+// SummarizePower is Summarize with the spectral statistics taken from power,
+// the sums over the frames of the power spectra of x under the
+// summarizer's STFT settings (NFFT/2+1 values; LogMel.ComputePower of the
+// same configuration forms them in the same order, so the summary is the
+// one Summarize gives), and frames, the number of frames summed. It panics
+// if power does not hold NFFT/2+1 values.
+func (z *Summarizer) SummarizePower(x []float64, fs float64, power []float64, frames int) Summary {
+	if len(power) != z.stft.Bins() {
+		panic(fmt.Sprintf("features: summary power has %d bins, want %d", len(power), z.stft.Bins()))
+	}
+	s := z.timeStats(x, fs)
+	if len(x) == 0 || frames == 0 {
+		return s
+	}
+	z.spectral(&s, power, fs)
+	return s
+}
+
+// timeStats fills the statistics of the samples themselves.
+func (z *Summarizer) timeStats(x []float64, fs float64) Summary {
 	s := Summary{Samples: len(x), Seconds: float64(len(x)) / fs}
 	if len(x) == 0 {
 		s.RMSdBFS, s.PeakdBFS = LevelFloorDB, LevelFloorDB
@@ -105,20 +141,14 @@ func (z *Summarizer) Summarize(x []float64, fs float64) Summary {
 		s.Kurtosis = m4 / (m2 * m2)
 	}
 	s.ZeroCrossings = float64(crossings) / s.Seconds
+	return s
+}
 
-	frames := z.stft.Frames(len(x))
-	if frames == 0 {
-		return s
-	}
-	clear(z.acc)
-	for i := range frames {
-		z.stft.Frame(z.spec, x, i)
-		for k, v := range z.spec {
-			z.acc[k] += v
-		}
-	}
+// spectral fills the spectral shape from acc, the power spectra summed
+// over the frames.
+func (z *Summarizer) spectral(s *Summary, acc []float64, fs float64) {
 	binHz := fs / float64(z.stft.n)
-	p := z.acc[1:]
+	p := acc[1:]
 	var tot, mom, logSum float64
 	for j, v := range p {
 		f := float64(j+1) * binHz
@@ -127,7 +157,7 @@ func (z *Summarizer) Summarize(x []float64, fs float64) Summary {
 		logSum += math.Log(math.Max(v, 1e-300))
 	}
 	if !(tot > 0) {
-		return s
+		return
 	}
 	s.CentroidHz = mom / tot
 	var spread, cum float64
@@ -145,7 +175,6 @@ func (z *Summarizer) Summarize(x []float64, fs float64) Summary {
 	s.Rolloff85Hz = roll
 	m := float64(len(p))
 	s.FlatnessDB = 10 * (logSum/m - math.Log(tot/m)) / math.Ln10
-	return s
 }
 
 // Moments are per-band running moments of feature frames: count, mean and

@@ -186,3 +186,68 @@ func TestMomentsMerge(t *testing.T) {
 		}
 	}
 }
+
+// The clip summary from the log-mel's own power spectra is the one a second
+// STFT gives, to the last bit: the same frames, the same sums in the same
+// order. In magnitude mode the log-mel has no power to give.
+func TestSummarizePowerMatchesSummarize(t *testing.T) {
+	const fs = 16000
+	rng := rand.New(rand.NewPCG(3, 4))
+	noise := make([]float64, 3*fs+123)
+	for i := range noise {
+		noise[i] = 0.2*rng.NormFloat64() + 0.01
+	}
+	tests := []struct {
+		name   string
+		cfg    Config
+		x      []float64
+		frames bool // whether ComputePower gives the sums
+	}{
+		{"noise, defaults", Config{}, noise, true},
+		{"tone, centred", Config{Center: true}, tone(2*fs, fs, 440, 0.5), true},
+		{"noise, centred zero pad, small frames", Config{Center: true, Pad: PadZero, NFFT: 256, Hop: 100}, noise, true},
+		{"shorter than a frame", Config{}, noise[:500], true},
+		{"silence", Config{}, make([]float64, 4096), true},
+		{"magnitude mode", Config{Magnitude: true}, noise, false},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			lm, err := NewLogMel(tc.cfg, fs)
+			if err != nil {
+				t.Fatal(err)
+			}
+			z, err := NewSummarizer(tc.cfg)
+			if err != nil {
+				t.Fatal(err)
+			}
+			power := make([]float64, lm.Bins())
+			feat, frames, ok := lm.ComputePower(nil, tc.x, power)
+			if ok != tc.frames {
+				t.Fatalf("ComputePower ok = %v, want %v", ok, tc.frames)
+			}
+			plain, plainFrames := lm.Compute(nil, tc.x)
+			if plainFrames != frames || !slicesEqual32(plain, feat) {
+				t.Errorf("ComputePower's features differ from Compute's")
+			}
+			if !ok {
+				return
+			}
+			got, want := z.SummarizePower(tc.x, fs, power, frames), z.Summarize(tc.x, fs)
+			if got != want {
+				t.Errorf("SummarizePower %+v\nSummarize      %+v", got, want)
+			}
+		})
+	}
+}
+
+func slicesEqual32(a, b []float32) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if math.Float32bits(a[i]) != math.Float32bits(b[i]) {
+			return false
+		}
+	}
+	return true
+}
