@@ -121,3 +121,30 @@ func BenchmarkPowerA(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkSpeedModes compares the two speed modes on one 10 s clip of a
+// synthetic machine at 16 kHz (16 orders of 24.7 Hz, a resonance, a mains
+// line, a floor): the order-aware change should cost at most 5× the
+// resampling.
+func BenchmarkSpeedModes(b *testing.B) {
+	tm := testMachine{fs: benchFS, seconds: 10, shaftHz: 24.7, orders: 16, resHz: 1500, mainsLineHz: 100}
+	x := tm.signal()
+	var p Plans
+	modes := []struct {
+		name string
+		tr   Transform
+	}{
+		{"resample", Speed{Ratio: 1.02, Plans: &p}},
+		{"orders", OrderSpeed{Ratio: 1.02, ShaftHz: 24.7, BandPercent: 2.5, MainsHz: 50, LevelDB: SoundPowerLevelDB(5, 1.02)}},
+	}
+	for _, m := range modes {
+		b.Run(m.name+"/10s", func(b *testing.B) {
+			dst := m.tr.Apply(nil, x, benchFS)
+			b.ReportAllocs()
+			b.SetBytes(int64(8 * len(x)))
+			for b.Loop() {
+				dst = m.tr.Apply(dst[:0], x, benchFS)
+			}
+		})
+	}
+}

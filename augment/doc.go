@@ -37,6 +37,13 @@
 // version that rounds identically, so outputs are bit-identical on every
 // machine.
 //
+// OrderSpeed{Ratio: r, ShaftHz, BandPercent, …} is the order-aware speed
+// change: only the shaft orders move by r (tracked and extracted with
+// Vold–Kalman filters, resynthesised at r times the shaft angle); the
+// resonances, the mains-locked lines, the floor and the clip's length stay,
+// and the level changes by the machine's speed law (SoundPowerLevelDB). Its
+// doc comment gives the method and the limits.
+//
 // # Level, polarity, time
 //
 // Gain{DB} multiplies by 10^(DB/20). Invert{} negates. Shift{Seconds,

@@ -92,7 +92,7 @@ func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st s
 	ent.Origin = machine.OriginAugmented
 	ent.Variant = v
 	ent.Seed = seed
-	ent.Draw = drawHash(spanMarked(records(drawn), SpeedOf(drawn)))
+	ent.Draw = drawHash(spanMarked(records(drawn), ResampledSpeedOf(drawn)))
 	ent.Path = fmt.Sprintf("%s/%s/augmented/%s-c%04d-v%02d.wav", r.Machine, r.Condition, st, c.Index, v)
 	return ent, nil
 }
@@ -119,9 +119,9 @@ func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Cli
 	}
 	ent.Backgrounds = BackgroundsOf(drawn)
 	speedDone := false
-	if ent.Speed != 1 {
+	if rs := ResampledSpeedOf(drawn); rs != 1 {
 		// one clip length after the change: read the source span it needs
-		xs, sp, ok, err := e.speedSource(ws, j.rec, c, ent.Speed)
+		xs, sp, ok, err := e.speedSource(ws, j.rec, c, rs)
 		if err != nil {
 			return nil, ent, err
 		}

@@ -3,6 +3,8 @@ package augment
 import (
 	"math"
 	"math/rand/v2"
+	"strconv"
+	"strings"
 
 	"thrum/machine"
 	"thrum/machine/ledger"
@@ -15,8 +17,28 @@ import (
 // (clampSpeed); Ratio is this step's share of it, Total divided by the
 // previous speed step's Total (guardSpeedTotals). With one speed step,
 // Ratio = Total.
+//
+// Orders, when set, makes the step order-aware (mode "orders", see
+// OrderSpeed): it moves the shaft orders 1 … Orders.Orders of the clip by
+// Ratio and keeps the rest and the clip's length; the samples are changed
+// by apply itself, not read from a longer source span.
 type speedStep struct {
 	Percent, Ratio, Total float64
+	Orders                *orderSpeedParams
+}
+
+// orderSpeedParams are an order-aware speed step's settings and, once
+// applied, what it measured and did.
+type orderSpeedParams struct {
+	// Orders and BandwidthHz are the step's orders and filter bandwidth;
+	// Exponent is the machine's sound-power exponent, LevelDB the level
+	// change 10·Exponent·log10 Ratio.
+	Orders            int
+	BandwidthHz       float64
+	Exponent, LevelDB float64
+	// Measured: the tracked shaft rate and the orders moved and kept.
+	applied bool
+	report  OrderReport
 }
 
 func init() { registerStep("speed", drawSpeed) }
@@ -24,7 +46,14 @@ func init() { registerStep("speed", drawSpeed) }
 func drawSpeed(s *machine.Step, rng *rand.Rand, dc DrawContext) StepParams {
 	pct := uniform(rng, s.Range, s.Increment)
 	r := clampSpeed(1+pct/100, dc.Condition, dc.HoldOutBands)
-	return &speedStep{Percent: pct, Ratio: r, Total: r}
+	st := &speedStep{Percent: pct, Ratio: r, Total: r}
+	if s.SpeedMode() == machine.SpeedOrders {
+		st.Orders = &orderSpeedParams{Orders: s.OrderCount(), BandwidthHz: s.OrderBandwidth()}
+		if dc.Machine != nil {
+			st.Orders.Exponent = dc.Machine.SpeedLevelExponent()
+		}
+	}
+	return st
 }
 
 // guardSpeedTotals sets the applied ratios of a variant's speed steps so
@@ -48,6 +77,19 @@ func guardSpeedTotals(drawn []Drawn, dc DrawContext) {
 }
 
 func (p *speedStep) apply(se stepEnv, dst, x []float64) []float64 {
+	if o := p.Orders; o != nil {
+		// The clip carries the speed of the steps before this one: the
+		// shaft is tracked around that rate.
+		prev := 1.0
+		if p.Ratio > 0 && p.Total > 0 {
+			prev = p.Total / p.Ratio
+		}
+		o.LevelDB = SoundPowerLevelDB(o.Exponent, p.Ratio)
+		y, rep := OrderSpeed{Ratio: p.Ratio, ShaftHz: machine.ShaftHz(se.cond.RPM) * prev, BandPercent: se.cond.BandPercent,
+			Orders: o.Orders, BandwidthHz: o.BandwidthHz, MainsHz: se.p.MainsHz, LevelDB: o.LevelDB}.ApplyReport(dst, x, se.fs)
+		o.applied, o.report = true, rep
+		return y
+	}
 	if se.speedDone {
 		return append(dst[:0], x...)
 	}
@@ -70,9 +112,49 @@ func (p *speedStep) guard(se stepEnv) string {
 	return reason
 }
 
+// Record: percent and ratio; an order-aware step adds its mode, orders,
+// bandwidth_hz, power_exponent and level_db, and once applied the tracked
+// shaft_hz, the number of orders moved and the orders kept in place (a
+// mains harmonic; too near Nyquist).
 func (p *speedStep) Record() ledger.StepRecord {
-	return stepRecord("speed", map[string]float64{"percent": p.Percent, "ratio": p.Ratio}, nil)
+	params := map[string]float64{"percent": p.Percent, "ratio": p.Ratio}
+	o := p.Orders
+	if o == nil {
+		return stepRecord("speed", params, nil)
+	}
+	params["orders"] = float64(o.Orders)
+	params["bandwidth_hz"] = o.BandwidthHz
+	params["power_exponent"] = o.Exponent
+	params["level_db"] = SoundPowerLevelDB(o.Exponent, p.Ratio)
+	text := map[string]string{"mode": machine.SpeedOrders}
+	if o.applied {
+		params["shaft_hz"] = o.report.ShaftHz
+		params["moved"] = float64(len(o.report.Moved))
+		if s := orderList(o.report.KeptMains); s != "" {
+			text["kept_mains"] = s
+		}
+		if s := orderList(o.report.KeptNyquist); s != "" {
+			text["kept_nyquist"] = s
+		}
+	}
+	return stepRecord("speed", params, text)
 }
+
+// orderList writes orders as "2,4,6".
+func orderList(ks []int) string {
+	var b strings.Builder
+	for i, k := range ks {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		b.WriteString(strconv.Itoa(k))
+	}
+	return b.String()
+}
+
+// resamples reports whether the step changes speed by resampling (read
+// from a source span), not order by order.
+func (p *speedStep) resamples() bool { return p.Orders == nil }
 
 // SpeedRatio is the factor the step multiplies the shaft speed by.
 func (p *speedStep) SpeedRatio() float64 { return p.Ratio }

@@ -152,6 +152,19 @@ func SpeedOf(drawn []Drawn) float64 {
 	return r
 }
 
+// ResampledSpeedOf returns the speed ratio the clip is resampled by: that
+// of SpeedOf when the speed steps resample (the default mode), 1 when they
+// are order-aware (those change the clip in place; a recipe's speed steps
+// share one mode).
+func ResampledSpeedOf(drawn []Drawn) float64 {
+	for _, d := range drawn {
+		if s, ok := d.Params.(*speedStep); ok && !s.resamples() {
+			return 1
+		}
+	}
+	return SpeedOf(drawn)
+}
+
 // SpeedDrawnOf returns the product of the speed ratios drawn by the steps
 // before clamping, and whether there is a speed step at all.
 func SpeedDrawnOf(drawn []Drawn) (float64, bool) {

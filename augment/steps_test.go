@@ -94,6 +94,10 @@ func TestStepRecordLayout(t *testing.T) {
 		want string
 	}{
 		{&speedStep{Percent: 1.5, Ratio: 1.015}, `{"kind":"speed","params":{"percent":1.5,"ratio":1.015}}`},
+		// level_db: the fan law 50·log10 1.02 = 0.43001 dB
+		{&speedStep{Percent: 2, Ratio: 1.02, Orders: &orderSpeedParams{Orders: 16, BandwidthHz: 1, Exponent: 5}}, `{"kind":"speed","params":{"bandwidth_hz":1,"level_db":0.4300085880958784,"orders":16,"percent":2,"power_exponent":5,"ratio":1.02},"text":{"mode":"orders"}}`},
+		{&speedStep{Percent: 2, Ratio: 1.02, Orders: &orderSpeedParams{Orders: 16, BandwidthHz: 1, applied: true, report: OrderReport{ShaftHz: 29.9, Moved: []int{1, 3, 5}, KeptMains: []int{2, 4}, KeptNyquist: []int{16}}}},
+			`{"kind":"speed","params":{"bandwidth_hz":1,"level_db":0,"moved":3,"orders":16,"percent":2,"power_exponent":0,"ratio":1.02,"shaft_hz":29.9},"text":{"kept_mains":"2,4","kept_nyquist":"16","mode":"orders"}}`},
 		{&gainStep{DB: -3}, `{"kind":"gain","params":{"db":-3}}`},
 		{&invertStep{}, `{"kind":"invert"}`},
 		{&shiftStep{MS: 12, Mode: "zero"}, `{"kind":"shift","params":{"ms":12},"text":{"mode":"zero"}}`},

@@ -164,3 +164,54 @@ func (p *Plant) ClipGroup(r *Recording, c Clip) string {
 	}
 	return BlockGroup(r.Group, c.Index/n)
 }
+
+// DefaultFanPowerExponent is the speed exponent of a fan's sound power:
+// Lw rises by 50·log10(n2/n1) dB with speed at fixed size and point of
+// operation (the fan laws; ASHRAE Handbook—HVAC Systems and Equipment,
+// Fans chapter, from memory).
+const DefaultFanPowerExponent = 5.0
+
+// SpeedLevelExponent is the exponent n of the machine's sound power over
+// speed (power ∝ speedⁿ): its sound_power_exponent, else 5 for a fan or a
+// blower (the fan laws), else 0 (no published law for the kind: the
+// level is kept).
+func (m *Machine) SpeedLevelExponent() float64 {
+	switch {
+	case m.SoundPowerExponent != nil:
+		return *m.SoundPowerExponent
+	case m.Kind == "fan" || m.Kind == "blower":
+		return DefaultFanPowerExponent
+	}
+	return 0
+}
+
+// SpeedMode is a speed step's mode: SpeedResample unless set.
+func (s *Step) SpeedMode() string {
+	if s.Mode == "" {
+		return SpeedResample
+	}
+	return s.Mode
+}
+
+// Default order-aware speed settings (Step.Orders, Step.BandwidthHz).
+const (
+	DefaultSpeedOrders      = 16
+	DefaultOrderBandwidthHz = 1.0
+)
+
+// OrderCount is the highest order an order-aware speed step moves.
+func (s *Step) OrderCount() int {
+	if s.Orders != nil {
+		return *s.Orders
+	}
+	return DefaultSpeedOrders
+}
+
+// OrderBandwidth is the −3 dB bandwidth in Hz of an order-aware speed
+// step's order filters.
+func (s *Step) OrderBandwidth() float64 {
+	if s.BandwidthHz != nil {
+		return *s.BandwidthHz
+	}
+	return DefaultOrderBandwidthHz
+}

@@ -106,6 +106,15 @@ kind = "fan"
 		{"nan range", "range = [-6, 6]", "range = [-6, nan]", 26, "recipe[basic].step[1].range[1]", "not a finite number"},
 		{"inf increment", "increment = 0.5", "increment = +inf", 23, "recipe[basic].step[0].increment", "not a finite number"},
 		{"nan split", "[[room]]", "[split]\nanomalous_eval = nan\n[[room]]", 7, "split.anomalous_eval", "not a finite number"},
+		// The order-aware speed step's keys.
+		{"speed mode", "increment = 0.5", "increment = 0.5\nmode = \"tape\"", 24, "recipe[basic].step[0].mode", "not one of resample, orders"},
+		{"orders need mains", "increment = 0.5", "increment = 0.5\nmode = \"orders\"", 24, "recipe[basic].step[0].mode", "needs mains_hz"},
+		{"orders range", "increment = 0.5", "increment = 0.5\nmode = \"orders\"\norders = 0", 25, "recipe[basic].step[0].orders", "0 is outside 1 … 64"},
+		{"order bandwidth range", "increment = 0.5", "increment = 0.5\nmode = \"orders\"\nbandwidth_hz = 50", 25, "recipe[basic].step[0].bandwidth_hz", "0.1 … 20 Hz"},
+		{"bandwidth without orders mode", "increment = 0.5", "increment = 0.5\nbandwidth_hz = 2", 24, "recipe[basic].step[0].bandwidth_hz", "only an order-aware speed step"},
+		{"speed modes mixed", "kind = \"gain\"\nrange = [-6, 6]", "kind = \"speed\"\nmode = \"orders\"\nrange = [-1, 1]", 26, "recipe[basic].step[1].mode", "share one mode"},
+		{"mains", "seed = 7", "seed = 7\nmains_hz = 55", 3, "mains_hz", "not 50 or 60"},
+		{"sound power exponent", "blades = 6", "blades = 6\nsound_power_exponent = 12", 32, "machine[pump-a1].sound_power_exponent", "outside 0 … 10"},
 		// Zero is a value, not "absent".
 		{"variants zero", "variants = 2", "variants = 0", 19, "recipe[basic].variants", "0  is outside 1 … 1000"},
 		{"clip zero", "seed = 7", "seed = 7\nclip_seconds = 0", 3, "clip_seconds", "0 s is outside 0.5 … 600 s"},
@@ -195,4 +204,38 @@ func FuzzParse(f *testing.F) {
 			t.Fatal("plant with error")
 		}
 	})
+}
+
+// An order-aware speed step parses with mains_hz; its defaults and the
+// machine's speed exponent come from the accessors.
+func TestParseOrderAwareSpeed(t *testing.T) {
+	src := strings.Replace(minimalTOML(t), "increment = 0.5", "increment = 0.5\nmode = \"orders\"", 1)
+	src = strings.Replace(src, "seed = 7", "seed = 7\nmains_hz = 60", 1)
+	p, err := Parse([]byte(src), "minimal.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := &p.Recipes[0].Steps[0]
+	if s.SpeedMode() != SpeedOrders || s.OrderCount() != DefaultSpeedOrders || s.OrderBandwidth() != DefaultOrderBandwidthHz || p.MainsHz != 60 {
+		t.Errorf("mode %q, orders %d, bandwidth %g Hz, mains %g Hz", s.SpeedMode(), s.OrderCount(), s.OrderBandwidth(), p.MainsHz)
+	}
+	if g := p.Recipes[0].Steps[1].SpeedMode(); g != SpeedResample {
+		t.Errorf("default mode %q, want %q", g, SpeedResample)
+	}
+	three := 3.0
+	for _, c := range []struct {
+		m    Machine
+		want float64
+	}{
+		// fans and blowers: sound power ∝ speed⁵ (the fan laws; ASHRAE
+		// Handbook—HVAC Systems and Equipment, Fans chapter, from memory)
+		{Machine{Kind: "fan"}, 5},
+		{Machine{Kind: "blower"}, 5},
+		{Machine{Kind: "pump"}, 0},
+		{Machine{Kind: "pump", SoundPowerExponent: &three}, 3},
+	} {
+		if got := c.m.SpeedLevelExponent(); got != c.want {
+			t.Errorf("%s: exponent %g, want %g", c.m.Kind, got, c.want)
+		}
+	}
 }

@@ -50,6 +50,11 @@ type Plant struct {
 	// file's folder unless absolute.
 	Manifest string `toml:"manifest"`
 
+	// MainsHz is the mains frequency of the plant's supply, 50 or 60 Hz (0
+	// = not given). An order-aware speed step (mode "orders") needs it:
+	// shaft orders on a mains harmonic are left in place.
+	MainsHz float64 `toml:"mains_hz"`
+
 	// Path is the file the plant was loaded from (not a TOML key).
 	Path string `toml:"-"`
 }
@@ -112,6 +117,11 @@ type Machine struct {
 	// low-passed to; otherwise, when its recordings come at different rates,
 	// the narrowest source bandwidth (0.45 × the lowest rate). See Scan.
 	BandwidthHz float64 `toml:"bandwidth_hz"`
+	// SoundPowerExponent n: an order-aware speed change by r changes the
+	// clip's level by 10·n·log10 r dB (sound power ∝ speedⁿ). Default 5
+	// for fans and blowers (the fan laws), 0 for other kinds (see
+	// SpeedLevelExponent).
+	SoundPowerExponent *float64 `toml:"sound_power_exponent"`
 }
 
 // FeatureConfig sets the features stage. Zero values mean the defaults of
@@ -266,7 +276,23 @@ type Step struct {
 	// Nonphysical must be true to use tempo or pitch, which break machine
 	// physics (harmonics no longer move together with speed).
 	Nonphysical bool `toml:"nonphysical"`
+	// Orders is the highest shaft order an order-aware speed step
+	// (mode "orders") moves (default 16), BandwidthHz the −3 dB bandwidth
+	// of its order filters (default 1 Hz). Only with mode "orders".
+	Orders      *int     `toml:"orders"`
+	BandwidthHz *float64 `toml:"bandwidth_hz"`
 }
+
+// Speed step modes (Step.Mode of kind speed).
+const (
+	// SpeedResample resamples the clip: every line moves, the clip's
+	// length changes (a source span one clip long after the change is
+	// read). The default.
+	SpeedResample = "resample"
+	// SpeedOrders moves the shaft orders only and keeps the rest and the
+	// clip's length.
+	SpeedOrders = "orders"
+)
 
 // Walls holds one value per wall; in TOML it may be a single number (all six
 // walls alike) or an array.

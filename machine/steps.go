@@ -15,7 +15,7 @@ var stepRules = []struct {
 	kind  string
 	check stepRule
 }{
-	{"speed", needRange(-20, 20, "%")},
+	{"speed", both(needRange(-20, 20, "%"), checkSpeed)},
 	{"gain", needRange(-40, 20, "dB")},
 	{"invert", noRange},
 	{"shift", checkShift},
@@ -123,5 +123,26 @@ func checkIR(v *validator, loc, key string, s *Step, _ float64) {
 func needNonphysical(v *validator, loc, key string, s *Step, _ float64) {
 	if !s.Nonphysical {
 		v.bad(loc, key+".nonphysical", "kind", "step kind %q breaks machine physics (harmonics no longer follow speed); set nonphysical = true to use it", s.Kind)
+	}
+}
+
+func checkSpeed(v *validator, loc, key string, s *Step, _ float64) {
+	switch s.Mode {
+	case "", SpeedResample:
+		if s.Orders != nil {
+			v.bad(loc, key+".orders", "orders", "only an order-aware speed step (mode = %q) takes orders", SpeedOrders)
+		}
+		if s.BandwidthHz != nil {
+			v.bad(loc, key+".bandwidth_hz", "bandwidth_hz", "only an order-aware speed step (mode = %q) takes bandwidth_hz", SpeedOrders)
+		}
+	case SpeedOrders:
+		if s.Orders != nil && (*s.Orders < 1 || *s.Orders > 64) {
+			v.bad(loc, key+".orders", "orders", "%d is outside 1 … 64", *s.Orders)
+		}
+		if s.BandwidthHz != nil {
+			v.rangeCheck(loc, key+".bandwidth_hz", "bandwidth_hz", *s.BandwidthHz, 0.1, 20, "Hz")
+		}
+	default:
+		v.bad(loc, key+".mode", "mode", "%q is not one of %s, %s", s.Mode, SpeedResample, SpeedOrders)
 	}
 }

@@ -184,6 +184,9 @@ func (v *validator) plant(p *Plant) {
 	} else {
 		v.rangeCheck("", "sample_rate", "sample_rate", float64(p.SampleRate), 8000, 192000, "Hz")
 	}
+	if p.MainsHz != 0 && p.MainsHz != 50 && p.MainsHz != 60 {
+		v.bad("", "mains_hz", "mains_hz", "%g Hz is not 50 or 60", p.MainsHz)
+	}
 	if p.Recordings == "" {
 		v.bad("", "recordings", "recordings", "is required (the recordings root folder)")
 	}
@@ -409,6 +412,23 @@ func (v *validator) recipe(p *Plant, r *Recipe, i int, loc, key string) {
 		v.bad(loc, key+".min_steps", "min_steps", "need 1 ≤ min_steps (%d) ≤ max_steps (%d) ≤ number of steps (%d)", r.MinSteps, r.MaxSteps, len(r.Steps))
 	}
 	nyq := float64(p.SampleRate) / 2
+	speedMode := ""
+	for i := range r.Steps {
+		s := &r.Steps[i]
+		if s.Kind != "speed" || (s.Mode != "" && s.Mode != SpeedResample && s.Mode != SpeedOrders) {
+			continue
+		}
+		k, sloc := fmt.Sprintf("%s.step[%d]", key, i), fmt.Sprintf("%s.step.%d", loc, i)
+		switch {
+		case speedMode == "":
+			speedMode = s.SpeedMode()
+		case speedMode != s.SpeedMode():
+			v.bad(sloc, k+".mode", "mode", "the speed steps of a recipe share one mode (%q here, %q before)", s.SpeedMode(), speedMode)
+		}
+		if s.SpeedMode() == SpeedOrders && p.MainsHz == 0 {
+			v.bad(sloc, k+".mode", "mode", "an order-aware speed step needs mains_hz (50 or 60) at the top of plant.toml")
+		}
+	}
 	for i := range r.Steps {
 		s := &r.Steps[i]
 		k, sloc := fmt.Sprintf("%s.step[%d]", key, i), fmt.Sprintf("%s.step.%d", loc, i)
@@ -503,6 +523,9 @@ func (v *validator) machine(p *Plant, m *Machine, mi int, loc, key string, rooms
 		}
 	}
 	v.channels(loc, key+".channels", m.Channels)
+	if m.SoundPowerExponent != nil {
+		v.rangeCheck(loc, key+".sound_power_exponent", "sound_power_exponent", *m.SoundPowerExponent, 0, 10, "")
+	}
 	if m.BandwidthHz != 0 {
 		v.rangeCheck(loc, key+".bandwidth_hz", "bandwidth_hz", m.BandwidthHz, 20, MaxBandwidth*float64(p.SampleRate), "Hz")
 	}
