@@ -114,7 +114,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			w.env = ep
 		}
 		ep.Reset(len(x))
-		spec, binHz := ep.Spectrum(w.spec, x, fs, w.st.envLo, w.st.envHi)
+		spec, binHz := ep.BasebandSpectrum(w.spec, x, fs, w.st.envLo, w.st.envHi, w.st.envMax)
 		w.spec = spec
 		keep := int(w.st.envMax/binHz) + 1
 		if keep > len(spec) {

@@ -115,7 +115,8 @@
 //
 // RunStage is the features stage of a plant: per clip of the split lists a
 // log-mel .npy, its envelope spectrum (band around the machine's resonance
-// range, Hilbert envelope, amplitude spectrum up to 1 kHz by default), the
+// range, Hilbert envelope, amplitude spectrum up to 1 kHz by default, at
+// baseband: EnvelopePlan.BasebandSpectrum), the
 // summary statistics in index.csv, masked copies of training clips (logged
 // in the machine's ledger), per-machine statistics from training clips
 // only, optional stacked arrays and the pictures. WriteReport renders a

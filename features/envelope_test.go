@@ -3,6 +3,8 @@ package features
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -160,6 +162,9 @@ func TestEnvelopePanics(t *testing.T) {
 		{"band above nyquist", func() { p.Spectrum(nil, x, 1000, 600, 0) }},
 		{"rate", func() { p.Envelope(nil, x, 0, 0, 0) }},
 		{"plan length", func() { NewEnvelopePlan(0) }},
+		{"baseband length", func() { p.BasebandSpectrum(nil, make([]float64, 99), 1000, 100, 200, 50) }},
+		{"baseband empty band", func() { p.BasebandSpectrum(nil, x, 1000, 300, 200, 50) }},
+		{"baseband limit", func() { p.BasebandSpectrum(nil, x, 1000, 100, 200, 0) }},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			defer func() {
@@ -194,5 +199,106 @@ func BenchmarkEnvelopeSpectrum(b *testing.B) {
 				p.Spectrum(spec, x, fs, 2000, 4000)
 			}
 		})
+		b.Run(fmt.Sprintf("%gs_16k_baseband_to_1kHz", sec), func(b *testing.B) {
+			p := NewEnvelopePlan(n)
+			spec := make([]float64, p.SpectrumLen())
+			for b.Loop() {
+				p.BasebandSpectrum(spec, x, fs, 2000, 4000, 1000)
+			}
+		})
+	}
+}
+
+// envImpacts returns n samples at fs of decaying 3 kHz bursts (τ = 2 ms)
+// repeating at rate Hz, in Gaussian noise of standard deviation sd: the
+// signature of a localised bearing defect (Randall & Antoni 2011).
+func envImpacts(n int, fs, rate, sd float64, seed uint64) []float64 {
+	rng := rand.New(rand.NewPCG(seed, 1))
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = sd * rng.NormFloat64()
+	}
+	for t0 := 0.0; int(t0*fs) < n; t0 += 1 / rate {
+		for i := int(t0 * fs); i < n && float64(i)/fs < t0+0.02; i++ {
+			t := float64(i)/fs - t0
+			x[i] += math.Exp(-t/0.002) * math.Sin(2*math.Pi*3000*t)
+		}
+	}
+	return x
+}
+
+// The baseband envelope spectrum has Spectrum's bins and its lines: an AM
+// tone's line at f_m with amplitude m (derived from the envelope
+// 1 + m·cos 2πf_m t), an impact train's strongest line within one bin of
+// its repetition rate and of Spectrum's, and elsewhere values within a few
+// per cent of the highest line (what folds from beyond the band's width).
+// A band too wide to decimate gives Spectrum's bytes.
+func TestBasebandSpectrumMatchesSpectrum(t *testing.T) {
+	for _, tc := range []struct {
+		name       string
+		x          []float64
+		fs, lo, hi float64
+		maxHz      float64
+		line, m    float64 // source line (Hz) and, for an AM tone, its amplitude
+		dec        int
+		tol        float64 // largest |baseband − Spectrum| below maxHz, relative to the highest line
+	}{
+		{"AM tone", envAMTone(16384, 16384, 3000, 30, 0.5), 16384, 2000, 4000, 1000, 30, 0.5, 4, 1e-3},
+		{"AM tone, odd length", envAMTone(12000, 12000, 3000, 107, 0.3), 12000, 2500, 3500, 400, 107, 0.3, 8, 2e-2},
+		{"impacts, 3 kHz band", envImpacts(155328, 16000, 97.3, 0.05, 1), 16000, 2000, 5000, 1000, 97.3, 0, 4, 4e-2},
+		{"impacts, narrow band", envImpacts(50000, 16000, 61.7, 0.05, 2), 16000, 2500, 3500, 500, 61.7, 0, 8, 4e-2},
+		{"full band", envAMTone(16384, 16384, 3000, 30, 0.5), 16384, 0, 0, 1000, 30, 0.5, 1, 0},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			p := NewEnvelopePlan(len(tc.x))
+			if d := p.Decimation(tc.fs, tc.lo, tc.hi, tc.maxHz); d != tc.dec {
+				t.Errorf("decimation %d, want %d", d, tc.dec)
+			}
+			ref, refBin := p.Spectrum(nil, tc.x, tc.fs, tc.lo, tc.hi)
+			got, bin := p.BasebandSpectrum(nil, tc.x, tc.fs, tc.lo, tc.hi, tc.maxHz)
+			if bin != refBin {
+				t.Fatalf("bin %g Hz, Spectrum's %g Hz", bin, refBin)
+			}
+			keep := int(tc.maxHz/bin) + 1
+			if len(got) < keep {
+				t.Fatalf("%d bins, want ≥ %d (up to %g Hz)", len(got), keep, tc.maxHz)
+			}
+			from := int(5/bin) + 1 // above the mean's leakage
+			kr, kg := envArgmax(ref, from, keep), envArgmax(got, from, keep)
+			if kg-kr > 1 || kr-kg > 1 {
+				t.Errorf("strongest line at bin %d, Spectrum's at %d", kg, kr)
+			}
+			if src := tc.line / bin; math.Abs(float64(kg)-src) > 1 {
+				t.Errorf("strongest line at %.2f Hz, source at %.2f Hz (bin %.3g Hz)", float64(kg)*bin, tc.line, bin)
+			}
+			if tc.m > 0 && math.Abs(got[kg]-tc.m) > 0.02*tc.m {
+				t.Errorf("line amplitude %.4f, want %g", got[kg], tc.m)
+			}
+			var worst float64
+			for k := 1; k < keep; k++ {
+				worst = math.Max(worst, math.Abs(got[k]-ref[k]))
+			}
+			if worst > tc.tol*ref[kr] {
+				t.Errorf("largest difference %.3g of the line, want ≤ %g", worst/ref[kr], tc.tol)
+			}
+			if tc.dec == 1 && !slices.Equal(got, ref) {
+				t.Errorf("undecimated baseband spectrum differs from Spectrum")
+			}
+		})
+	}
+}
+
+// A plan reset to another length gives what a fresh plan gives, even when
+// the decimated length stays the same.
+func TestBasebandSpectrumReset(t *testing.T) {
+	const fs = 16000
+	a, b := envImpacts(40001, fs, 80, 0.05, 3), envImpacts(40003, fs, 80, 0.05, 4)
+	p := NewEnvelopePlan(len(a))
+	p.BasebandSpectrum(nil, a, fs, 2000, 5000, 1000)
+	p.Reset(len(b))
+	got, _ := p.BasebandSpectrum(nil, b, fs, 2000, 5000, 1000)
+	want, _ := NewEnvelopePlan(len(b)).BasebandSpectrum(nil, b, fs, 2000, 5000, 1000)
+	if !slices.Equal(got, want) {
+		t.Errorf("reused plan differs from a fresh one")
 	}
 }

@@ -32,7 +32,7 @@ type machineSetup struct {
 // FormatVersion is raised whenever the features stage computes or writes a
 // clip's files differently, so that a rerun recomputes features written by
 // an earlier thrum instead of reusing them.
-const FormatVersion = 2
+const FormatVersion = 3
 
 func setupFor(p *machine.Plant, m *machine.Machine) (machineSetup, error) {
 	fc := p.FeaturesFor(m)

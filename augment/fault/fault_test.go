@@ -59,11 +59,20 @@ func bearingCue(kind string, shaftHz, jitter float64) Bearing {
 // envSpec adds c to a noise clip and returns the envelope spectrum in the
 // 2–4 kHz band around the default 3 kHz resonance.
 func envSpec(t testing.TB, c Cue, seed uint64) (spec []float64, binHz float64) {
+	return envSpecOf(t, c, seed, false)
+}
+
+// envSpecOf is envSpec, computed at baseband up to 1 kHz (the features
+// stage's default envelope limit) when baseband is set.
+func envSpecOf(t testing.TB, c Cue, seed uint64, baseband bool) (spec []float64, binHz float64) {
 	t.Helper()
 	clip := noiseClip(testN, testRMS, seed)
 	y, _, err := Add(nil, clip, testFS, c, rand.New(rand.NewPCG(seed, 7)))
 	if err != nil {
 		t.Fatal(err)
+	}
+	if baseband {
+		return features.NewEnvelopePlan(len(y)).BasebandSpectrum(nil, y, testFS, 2000, 4000, 1000)
 	}
 	return features.EnvelopeSpectrum(nil, y, testFS, 2000, 4000)
 }
@@ -127,6 +136,8 @@ func TestCWRURates(t *testing.T) {
 // (2011, section 2) describe: BPFO with harmonics; BPFI with sidebands at
 // ±shaft rate; 2·BSF with sidebands at ±FTF; FTF for a cage fault. The line
 // must sit within 1 % of the rate (slip tolerance, Randall & Antoni 2011).
+// The features stage's baseband spectrum shows the same lines, its
+// strongest within one bin of the full-length spectrum's.
 func TestBearingEnvelopeLines(t *testing.T) {
 	r := cwru6205.Rates(cwruShaftHz)
 	for _, tc := range []struct {
@@ -142,10 +153,21 @@ func TestBearingEnvelopeLines(t *testing.T) {
 		{KindCage, r.FTF, [2]float64{2, 200}, []float64{2, 3}, 0},
 	} {
 		t.Run(tc.kind, func(t *testing.T) {
-			for _, jitter := range []float64{0, DefaultJitterFrac} {
-				spec, bin := envSpec(t, bearingCue(tc.kind, cwruShaftHz, jitter), 11)
-				if f := strongest(spec, bin, tc.search[0], tc.search[1]); math.Abs(f-tc.rate) > 0.01*tc.rate {
-					t.Errorf("jitter %g: strongest line at %.2f Hz, want %.2f Hz ± 1 %%", jitter, f, tc.rate)
+			for _, c := range []struct {
+				jitter   float64
+				baseband bool
+			}{{0, false}, {DefaultJitterFrac, false}, {0, true}, {DefaultJitterFrac, true}} {
+				jitter := c.jitter
+				spec, bin := envSpecOf(t, bearingCue(tc.kind, cwruShaftHz, jitter), 11, c.baseband)
+				f := strongest(spec, bin, tc.search[0], tc.search[1])
+				if math.Abs(f-tc.rate) > 0.01*tc.rate {
+					t.Errorf("jitter %g, baseband %v: strongest line at %.2f Hz, want %.2f Hz ± 1 %%", jitter, c.baseband, f, tc.rate)
+				}
+				if c.baseband {
+					full, _ := envSpecOf(t, bearingCue(tc.kind, cwruShaftHz, jitter), 11, false)
+					if ff := strongest(full, bin, tc.search[0], tc.search[1]); math.Abs(f-ff) > bin {
+						t.Errorf("jitter %g: baseband strongest line at %.3f Hz, full-length at %.3f Hz (bin %.3f Hz)", jitter, f, ff, bin)
+					}
 				}
 				bg := floor(spec, bin, tc.search[0], tc.search[1])
 				stand := func(what string, f float64) {
