@@ -27,6 +27,9 @@ type env struct {
 	bgFrames map[string]int64
 	previous map[string]ledger.Entry
 	journal  *ledger.Journal
+	// batch makes the stage's outputs durable together; an output's
+	// journal line follows once it is in place
+	batch    *machine.Batch
 	progress *pool.Reporter
 
 	plans *Plans

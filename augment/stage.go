@@ -100,8 +100,10 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 		clips += int64(len(j.rec.Clips))
 	}
 	prog := pool.NewReporter(opt.Progress, string(stage), pool.UnitClips, clips)
+	batch := &machine.Batch{}
 	for _, e := range envs {
 		e.progress = prog
+		e.batch = batch
 	}
 	results := make([][]ledger.Entry, len(jobs))
 	reused := make([]int, len(jobs))
@@ -131,6 +133,11 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 		prog.Add(int64(len(j.rec.Clips))-r.ticked, w, rej, j.m.ID, j.rec.Rel)
 		return nil
 	})
+	// The waiting outputs are complete whether the pool stopped early or
+	// not: they become durable and journalled, so a resume reuses them.
+	if ferr := batch.Flush(); err == nil {
+		err = ferr
+	}
 	if err != nil {
 		return nil, err
 	}

@@ -119,23 +119,22 @@ func (e *env) fit(r *machine.Recording, y []float64) float64 {
 	return Protect(y)
 }
 
-// write encodes x, writes it atomically under Out and returns its sha256.
-func (e *env) write(rel string, x []float64) (string, error) {
-	enc := e.encoding()
+// encode encodes x in the stage's encoding and returns the bytes and their
+// sha256.
+func (e *env) encode(x []float64) ([]byte, string, error) {
 	var buf bytes.Buffer
 	buf.Grow(len(x)*3 + 64)
-	if err := wavio.Encode(&buf, x, e.p.SampleRate, 1, enc); err != nil {
-		return "", err
-	}
-	if err := machine.WriteFileAtomic(filepath.Join(e.opt.Out, filepath.FromSlash(rel)), buf.Bytes()); err != nil {
-		return "", err
+	if err := wavio.Encode(&buf, x, e.p.SampleRate, 1, e.encoding()); err != nil {
+		return nil, "", err
 	}
 	s := sha256.Sum256(buf.Bytes())
-	return hex.EncodeToString(s[:]), nil
+	return buf.Bytes(), hex.EncodeToString(s[:]), nil
 }
 
-// emit writes y for an output entry (a rejected one has no file), then
-// journals the entry and appends it to the job's result.
+// emit writes y for an output entry (a rejected one has no file) atomically
+// under Out through the stage's batch, journals the entry once its file is
+// durable and in place (when the batch flushes), and appends it to the
+// job's result.
 func (e *env) emit(res *jobResult, ent ledger.Entry, y []float64) error {
 	if ledger.Check(&ent) != nil {
 		// belt and braces: the steps record undefined values themselves,
@@ -143,14 +142,20 @@ func (e *env) emit(res *jobResult, ent ledger.Entry, y []float64) error {
 		ent = ledger.Defined(ent, "not finite")
 		ent.Kind, ent.Reason, ent.Path = ledger.KindRejected, RejectNonFiniteValue, ""
 	}
-	if ent.Kind == ledger.KindOutput {
-		sum, err := e.write(ent.Path, y)
-		if err != nil {
+	if ent.Kind != ledger.KindOutput {
+		if err := e.journal.Append(ent); err != nil {
 			return err
 		}
-		ent.SHA256 = sum
+		res.entries = append(res.entries, ent)
+		return nil
 	}
-	if err := e.journal.Append(ent); err != nil {
+	b, sum, err := e.encode(y)
+	if err != nil {
+		return err
+	}
+	ent.SHA256 = sum
+	line := ent
+	if err := e.batch.Write(filepath.Join(e.opt.Out, filepath.FromSlash(ent.Path)), b, func() error { return e.journal.Append(line) }); err != nil {
 		return err
 	}
 	res.entries = append(res.entries, ent)

@@ -46,6 +46,8 @@ type worker struct {
 	// power is the log-mel's power spectra summed over a clip's frames,
 	// for the clip summary
 	power []float64
+	// batch makes the stage's clip files durable together
+	batch *machine.Batch
 }
 
 func newWorker(st machineSetup, fs float64) (*worker, error) {
@@ -104,7 +106,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			return fail(err)
 		}
 		res.row.npySHA = sum
-		if err := writeIfChanged(filepath.Join(out, filepath.FromSlash(res.row.npy)), b); err != nil {
+		if err := writeIfChangedIn(w.batch, filepath.Join(out, filepath.FromSlash(res.row.npy)), b); err != nil {
 			return fail(err)
 		}
 		// envelope spectrum, the bearing practitioner's view
@@ -130,7 +132,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			return fail(err)
 		}
 		res.row.envSHA = esum
-		if err := writeIfChanged(filepath.Join(out, filepath.FromSlash(res.row.env)), eb); err != nil {
+		if err := writeIfChangedIn(w.batch, filepath.Join(out, filepath.FromSlash(res.row.env)), eb); err != nil {
 			return fail(err)
 		}
 	}
@@ -148,7 +150,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			if err != nil {
 				return fail(err)
 			}
-			if err := writeIfChanged(filepath.Join(out, filepath.FromSlash(mpath)), mb); err != nil {
+			if err := writeIfChangedIn(w.batch, filepath.Join(out, filepath.FromSlash(mpath)), mb); err != nil {
 				return fail(err)
 			}
 			res.row.masks = append(res.row.masks, maskRow{path: mpath, sha: msum, rec: rec})
@@ -209,11 +211,15 @@ func (w *worker) reusable(out string, in Input, prev *indexRow, res *fileResult)
 
 // writeIfChanged writes b to file atomically unless the file already holds
 // exactly b: an unchanged output keeps its inode and modification time.
-func writeIfChanged(file string, b []byte) error {
+func writeIfChanged(file string, b []byte) error { return writeIfChangedIn(nil, file, b) }
+
+// writeIfChangedIn is writeIfChanged through a batch: the file is in place
+// once the batch flushes (a nil batch writes at once).
+func writeIfChangedIn(batch *machine.Batch, file string, b []byte) error {
 	if old, err := os.ReadFile(file); err == nil && bytes.Equal(old, b) {
 		return nil
 	}
-	return machine.WriteFileAtomic(file, b)
+	return batch.Write(file, b, nil)
 }
 
 func npyBytes(data []float32, shape ...int) ([]byte, string, error) {

@@ -98,6 +98,9 @@ func RunStage(ctx context.Context, p *machine.Plant, inputs []Input, opt StageOp
 	ws := make([]map[string]*worker, pool.Size(opt.Workers))
 	prog := pool.NewReporter(opt.Progress, "features", pool.UnitClips, int64(len(inputs)))
 	all := make([]fileResult, len(inputs))
+	// The clips' files become durable together; the stage's ledger
+	// sections and index, which name them, are written after the flush.
+	batch := &machine.Batch{}
 	err := pool.Each(ctx, len(inputs), opt.Workers, func(ctx context.Context, w, i int) error {
 		in := inputs[i]
 		if ws[w] == nil {
@@ -110,6 +113,7 @@ func RunStage(ctx context.Context, p *machine.Plant, inputs []Input, opt StageOp
 			if err != nil {
 				return err
 			}
+			wk.batch = batch
 			ws[w][in.Machine] = wk
 		}
 		r := wk.do(p, opt.Out, in, old[in.Path])
@@ -123,6 +127,9 @@ func RunStage(ctx context.Context, p *machine.Plant, inputs []Input, opt StageOp
 		prog.Add(1, 0, 0, in.Machine, in.Path)
 		return nil
 	})
+	if ferr := batch.Flush(); err == nil {
+		err = ferr
+	}
 	if err != nil {
 		return nil, err
 	}

@@ -17,10 +17,11 @@ import (
 const tempInfix = ".tmp-"
 
 // tempRE matches the names CreateAtomic gives its temporary files
-// (os.CreateTemp replaces the * of the pattern with decimal digits).
+// (createTempFor puts decimal digits after the infix).
 var tempRE = regexp.MustCompile(`^\..+\.tmp-[0-9]+$`)
 
-// tempPattern is the os.CreateTemp pattern of a temporary file for path.
+// tempPattern is the glob pattern of the temporary files for path (the *
+// stands for the decimal digits createTempFor puts there).
 func tempPattern(path string) string { return "." + filepath.Base(path) + tempInfix + "*" }
 
 // IsTemp reports whether a file name (no folder) is the name of a
@@ -107,18 +108,9 @@ func globEscape(p string) string {
 // CreateAtomic starts an AtomicFile for path (mode 0644), creating its
 // folder if needed.
 func CreateAtomic(path string) (*AtomicFile, error) {
-	dir := filepath.Dir(path)
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return nil, fmt.Errorf("machine: %w", err)
-	}
-	f, err := os.CreateTemp(dir, tempPattern(path))
+	f, err := createTempFor(path)
 	if err != nil {
-		return nil, fmt.Errorf("machine: %w", err)
-	}
-	if err := f.Chmod(0o644); err != nil {
-		f.Close()
-		os.Remove(f.Name())
-		return nil, fmt.Errorf("machine: %w", err)
+		return nil, err
 	}
 	return &AtomicFile{File: f, path: path}, nil
 }
