@@ -27,17 +27,22 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 	if r.Label == machine.LabelAnomalous {
 		folder = "anomalous"
 	}
+	trains := func(c machine.Clip) bool { return augmentable && e.opt.Policy.Trains(r, c) }
+	// A rerun whose every output of this recording still verifies takes
+	// them as they are, without reading the recording.
+	if es, ok, err := e.allReused(j, recipe, trains, folder, st); err != nil {
+		res.err = fmt.Errorf("augment: %s: %w", r.Rel, err)
+		return res
+	} else if ok {
+		res.entries, res.reused = es, len(es)
+		return res
+	}
 	scratch := &workspace{}
 	err := r.ReadClips(e.counted(&res, func(c machine.Clip, x []float64) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
-		ent := e.base(r, c)
-		ent.Stage = ledger.Expand
-		ent.Origin = machine.OriginRecorded
-		ent.Variant = -1
-		ent.Seed = 0
-		ent.Path = fmt.Sprintf("%s/%s/%s/%s-c%04d.wav", r.Machine, r.Condition, folder, st, c.Index)
+		ent := e.recordedEntry(r, c, folder, st)
 		if !e.reuse(&res, ent) {
 			y := x
 			if r.BeyondFullScale && e.encoding() != wavio.Float32 {
@@ -51,7 +56,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 				return err
 			}
 		}
-		if !augmentable || !e.opt.Policy.Trains(r, c) {
+		if !trains(c) {
 			return nil
 		}
 		for v := 0; v < recipe.Variants; v++ {
@@ -76,6 +81,49 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 		res.err = fmt.Errorf("augment: %s: %w", r.Rel, err)
 	}
 	return res
+}
+
+// recordedEntry is the ledger entry of a clip's recorded output as far as
+// the clip determines it.
+func (e *env) recordedEntry(r *machine.Recording, c machine.Clip, folder, st string) ledger.Entry {
+	ent := e.base(r, c)
+	ent.Stage = ledger.Expand
+	ent.Origin = machine.OriginRecorded
+	ent.Variant = -1
+	ent.Seed = 0
+	ent.Path = fmt.Sprintf("%s/%s/%s/%s-c%04d.wav", r.Machine, r.Condition, folder, st, c.Index)
+	return ent
+}
+
+// allReused returns the previous entries of every output of a job, in the
+// order the job makes them, when each of them still holds (see reusable);
+// ok is false as soon as one does not.
+func (e *env) allReused(j job, recipe *machine.Recipe, trains func(machine.Clip) bool, folder, st string) (es []ledger.Entry, ok bool, err error) {
+	if len(e.previous) == 0 || len(j.rec.Clips) == 0 {
+		return nil, false, nil
+	}
+	for _, c := range j.rec.Clips {
+		old, ok := e.reusable(e.recordedEntry(j.rec, c, folder, st))
+		if !ok {
+			return nil, false, nil
+		}
+		es = append(es, old)
+		if !trains(c) {
+			continue
+		}
+		for v := 0; v < recipe.Variants; v++ {
+			want, err := e.variant(j, recipe, c, v, st)
+			if err != nil {
+				return nil, false, err
+			}
+			old, ok := e.reusable(want)
+			if !ok {
+				return nil, false, nil
+			}
+			es = append(es, old)
+		}
+	}
+	return es, true, nil
 }
 
 // variant draws variant v of a clip and returns its ledger entry as far as
