@@ -312,3 +312,72 @@ func (s *seekFlusher) Seek(off int64, whence int) (int64, error) {
 	}
 	return s.f.Seek(off, whence)
 }
+
+// ReadNPY decodes a little-endian float32 C-order .npy file (format 1.0 or
+// 2.0, as WriteNPY and numpy write it) and returns its values and shape.
+// name is used in errors only.
+func ReadNPY(b []byte, name string) ([]float32, []int, error) {
+	bad := func(format string, a ...any) ([]float32, []int, error) {
+		return nil, nil, fmt.Errorf("features: %s: %s", name, fmt.Sprintf(format, a...))
+	}
+	if len(b) < 10 || string(b[:6]) != "\x93NUMPY" {
+		return bad("not a .npy file (no magic at byte 0)")
+	}
+	var hlen, start int
+	switch b[6] {
+	case 1:
+		hlen, start = int(binary.LittleEndian.Uint16(b[8:10])), 10
+	case 2, 3:
+		if len(b) < 12 {
+			return bad("header cut short at byte %d", len(b))
+		}
+		hlen, start = int(binary.LittleEndian.Uint32(b[8:12])), 12
+	default:
+		return bad("unsupported .npy version %d.%d at byte 6", b[6], b[7])
+	}
+	if start+hlen > len(b) {
+		return bad("header of %d bytes runs past the end (%d bytes)", hlen, len(b))
+	}
+	dict := string(b[start : start+hlen])
+	if !strings.Contains(dict, "'descr': '<f4'") {
+		return bad("dtype is not little-endian float32 ('<f4') in header %q", strings.TrimSpace(dict))
+	}
+	if !strings.Contains(dict, "'fortran_order': False") {
+		return bad("Fortran order is not supported (header %q)", strings.TrimSpace(dict))
+	}
+	i := strings.Index(dict, "'shape': (")
+	if i < 0 {
+		return bad("no shape in header %q", strings.TrimSpace(dict))
+	}
+	rest := dict[i+len("'shape': ("):]
+	j := strings.IndexByte(rest, ')')
+	if j < 0 {
+		return bad("shape not closed in header %q", strings.TrimSpace(dict))
+	}
+	var shape []int
+	n := 1
+	for _, f := range strings.Split(rest[:j], ",") {
+		f = strings.TrimSpace(f)
+		if f == "" {
+			continue
+		}
+		d, err := strconv.Atoi(f)
+		if err != nil || d < 0 {
+			return bad("shape dimension %q in header %q", f, strings.TrimSpace(dict))
+		}
+		shape = append(shape, d)
+		if d > 0 && n > math.MaxInt32/d {
+			return bad("shape %v too large", shape)
+		}
+		n *= d
+	}
+	data := b[start+hlen:]
+	if len(data) != 4*n {
+		return bad("shape %v needs %d bytes of data, the file has %d after byte %d", shape, 4*n, len(data), start+hlen)
+	}
+	out := make([]float32, n)
+	for k := range out {
+		out[k] = math.Float32frombits(binary.LittleEndian.Uint32(data[4*k:]))
+	}
+	return out, shape, nil
+}

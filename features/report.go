@@ -49,6 +49,27 @@ type ReportData struct {
 	Conditions []ConditionCounts
 	// Machines are shown in the order given.
 	Machines []MachineReport
+	// Evaluation, when set, is the evaluate stage's section: how well
+	// baseline detectors trained with and without the variants tell the
+	// real anomalies apart, with its ROC pictures.
+	Evaluation *EvaluationSection
+}
+
+// EvaluationSection is the report's detector-evaluation section: notes on
+// how to read it, tables of preformatted cells and PNG pictures.
+type EvaluationSection struct {
+	Notes  []string
+	Tables []ReportTable
+	// Pictures are PNG files relative to Out (slash-separated), embedded
+	// in the order given.
+	Pictures []string
+}
+
+// ReportTable is a table of text cells under a title; Note follows it.
+type ReportTable struct {
+	Title, Note string
+	Header      []string
+	Rows        [][]string
 }
 
 // ViolationGroup is the audit violations of one rule between one pair of
@@ -176,6 +197,18 @@ func RenderReport(w io.Writer, d ReportData) error {
 		}
 		v.Machines = append(v.Machines, mv)
 	}
+	if e := d.Evaluation; e != nil {
+		ev := &evaluationView{Notes: e.Notes, Tables: e.Tables}
+		for _, name := range e.Pictures {
+			pic, err := readPicture(filepath.Join(d.Out, filepath.FromSlash(name)), name)
+			if err != nil {
+				return err
+			}
+			pic.Caption = "ROC curves of the baseline detectors trained on the recorded clips only and on the recorded clips with their variants."
+			ev.Pictures = append(ev.Pictures, pic)
+		}
+		v.Evaluation = ev
+	}
 	var buf bytes.Buffer
 	if err := reportTemplate.Execute(&buf, v); err != nil {
 		return fmt.Errorf("features: report: %w", err)
@@ -195,6 +228,13 @@ type reportView struct {
 	ExcludedBy              []count
 	Conditions              []conditionRow
 	Machines                []machineView
+	Evaluation              *evaluationView
+}
+
+type evaluationView struct {
+	Notes    []string
+	Tables   []ReportTable
+	Pictures []picture
 }
 
 type conditionRow struct {
@@ -294,23 +334,32 @@ func reportPictures(dir string, ms []MachineReport) ([][]picture, error) {
 		if best < 0 {
 			continue
 		}
-		data, err := os.ReadFile(filepath.Join(dir, name))
+		pic, err := readPicture(filepath.Join(dir, name), name)
 		if err != nil {
-			return nil, fmt.Errorf("features: report: %w", err)
+			return nil, err
 		}
-		cfg, err := png.DecodeConfig(bytes.NewReader(data))
-		if err != nil {
-			return nil, fmt.Errorf("features: report: picture %s: %w", name, err)
-		}
-		out[best] = append(out[best], picture{
-			Name:    name,
-			Caption: caption(strings.TrimSuffix(name[len(ms[best].ID)+1:], filepath.Ext(name))),
-			// The bytes are our own base64, so the URL is safe to emit as is.
-			Src:   template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(data)),
-			Width: cfg.Width, Height: cfg.Height,
-		})
+		pic.Caption = caption(strings.TrimSuffix(name[len(ms[best].ID)+1:], filepath.Ext(name)))
+		out[best] = append(out[best], pic)
 	}
 	return out, nil
+}
+
+// readPicture reads a PNG file for embedding as a data: URI.
+func readPicture(file, name string) (picture, error) {
+	data, err := os.ReadFile(file)
+	if err != nil {
+		return picture{}, fmt.Errorf("features: report: %w", err)
+	}
+	cfg, err := png.DecodeConfig(bytes.NewReader(data))
+	if err != nil {
+		return picture{}, fmt.Errorf("features: report: picture %s: %w", name, err)
+	}
+	return picture{
+		Name: name,
+		// The bytes are our own base64, so the URL is safe to emit as is.
+		Src:   template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(data)),
+		Width: cfg.Width, Height: cfg.Height,
+	}, nil
 }
 
 // caption describes a picture from the part of its name after the
@@ -357,6 +406,7 @@ td.none { color: #80868b; font-style: italic; }
 figure { margin: 12px 0 20px 0; }
 figure img { max-width: 100%; height: auto; border: 1px solid #d5dbe1; }
 figcaption { color: #4a5560; font-size: 0.92em; }
+p.note { color: #4a5560; font-size: 0.92em; }
 .safety { border-left: 4px solid #e37400; background: #fef7e0; padding: 10px 14px; margin-top: 32px; }
 .safety h2 { margin-top: 4px; border: none; }
 </style>
@@ -413,6 +463,34 @@ figcaption { color: #4a5560; font-size: 0.92em; }
 {{- end}}
 </tbody>
 </table>
+</section>
+{{- end}}
+{{- with .Evaluation}}
+<section class="evaluation">
+<h2>Detector evaluation</h2>
+{{- range .Notes}}
+<p>{{.}}</p>
+{{- end}}
+{{- range .Tables}}
+<h3>{{.Title}}</h3>
+<table>
+<thead><tr>{{range .Header}}<th scope="col">{{.}}</th>{{end}}</tr></thead>
+<tbody>
+{{- range .Rows}}
+<tr>{{range .}}<td>{{.}}</td>{{end}}</tr>
+{{- end}}
+</tbody>
+</table>
+{{- if .Note}}
+<p class="note">{{.Note}}</p>
+{{- end}}
+{{- end}}
+{{- range .Pictures}}
+<figure>
+<img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Caption}}">
+<figcaption>{{.Caption}} <code>{{.Name}}</code></figcaption>
+</figure>
+{{- end}}
 </section>
 {{- end}}
 {{- if or .Skipped .Excluded}}

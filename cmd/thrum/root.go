@@ -92,6 +92,7 @@ splits with an audit, features ready for training, and a ledger of everything do
 		newSplitCmd(g),
 		newFeaturesCmd(g),
 		newRunCmd(g),
+		newEvaluateCmd(g),
 		newLogMelCmd(g),
 		newAuditCmd(g),
 	)

@@ -15,6 +15,7 @@ import (
 
 	"thrum/augment"
 	"thrum/features"
+	"thrum/features/evalstage"
 	"thrum/machine"
 	"thrum/machine/ledger"
 	"thrum/split"
@@ -43,6 +44,7 @@ joins the parts and finishes split, features and audit.`,
 	}
 	o.addFlags(cmd)
 	o.addLockFlag(cmd)
+	cmd.Flags().BoolVar(&o.NoEvaluate, "no-evaluate", false, "do not end with the evaluate stage (it runs when eval or test hold real anomalous recordings)")
 	return cmd
 }
 
@@ -162,6 +164,19 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 	if !rep.OK() {
 		verdict = fmt.Sprintf("%d violation(s)", len(rep.Violations))
 	}
+	// evaluate ends the run when there are real anomalies to score, and
+	// only on a clean audit: a leak would inflate every score
+	var evsum *evalstage.Summary
+	evalNote := ""
+	switch {
+	case o.NoEvaluate || !hasRealAnomalies(rows):
+	case !rep.OK():
+		evalNote = "evaluate: skipped, the audit found violations (a leak would inflate every score)"
+	default:
+		if evsum, err = evaluate(ctx, g, o, evalstage.Options{}); err != nil {
+			return err
+		}
+	}
 	wall := time.Since(t0)
 	rd := features.ReportData{Plant: plantPath, Out: o.Out, WallSeconds: wall.Seconds(), Audit: verdict}
 	for _, v := range rep.Violations {
@@ -172,6 +187,9 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		m := reports[id]
 		rd.Machines = append(rd.Machines, features.MachineReport{ID: id, Clips: m.clips, Recorded: m.recorded,
 			Augmented: m.augmented, Rejected: m.rejected, Faults: m.faults, Splits: m.splits, Excluded: m.excluded})
+	}
+	if evsum != nil {
+		rd.Evaluation = evsum.Report()
 	}
 	reportPath := filepath.Join(o.Out, "report.html")
 	if err := features.WriteReport(reportPath, rd); err != nil {
@@ -190,6 +208,11 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 		for _, w := range sres.Warnings {
 			writeJSONLine(g.stdout, map[string]any{"event": "warning", "stage": "split", "message": w})
 		}
+		if evsum != nil {
+			if err := printEvaluation(g, o, evsum); err != nil {
+				return err
+			}
+		}
 		writeJSONLine(g.stdout, map[string]any{"event": "done", "audit": verdict, "violations": len(rep.Violations), "wall_s": wall.Seconds(), "report": reportPath})
 	} else {
 		tw := tabwriter.NewWriter(g.stdout, 0, 0, 2, ' ', 0)
@@ -207,6 +230,15 @@ func runPipeline(ctx context.Context, g *globals, o stageOptions, plantPath stri
 			for _, x := range reports[id].excluded {
 				fmt.Fprintf(g.stdout, "excluded recording: %s\n", x)
 			}
+		}
+		if evsum != nil {
+			fmt.Fprintln(g.stdout)
+			if err := printEvaluation(g, o, evsum); err != nil {
+				return err
+			}
+		}
+		if evalNote != "" {
+			fmt.Fprintln(g.stdout, evalNote)
 		}
 		fmt.Fprintf(g.stdout, "audit: %s; wall time %.1f s; outputs in %s; report: %s\n", verdict, wall.Seconds(), o.Out, reportPath)
 		if !rep.OK() {

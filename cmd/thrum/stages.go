@@ -29,6 +29,8 @@ type stageOptions struct {
 	WaitLock bool
 	// Command is the command line, recorded in the output root's lock.
 	Command string
+	// NoEvaluate skips the evaluate stage at the end of run.
+	NoEvaluate bool
 }
 
 func (o *stageOptions) addFlags(cmd *cobra.Command) {

@@ -1,0 +1,652 @@
+package evalstage
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path"
+	"path/filepath"
+	"slices"
+	"sort"
+	"strings"
+
+	"thrum/features"
+	"thrum/features/evaluate"
+	"thrum/machine"
+	"thrum/machine/pool"
+)
+
+// Folder and file names of the stage under the output root.
+const (
+	Dir         = "evaluate"
+	SummaryFile = "summary.json"
+	// rocSuffix ends the name of a machine's ROC picture.
+	rocSuffix = "-roc.png"
+)
+
+// Fixed settings of the stage.
+const (
+	// DefaultRounds is the number of bootstrap resamples unless given.
+	DefaultRounds = 1000
+	// Level is the coverage of every interval.
+	Level = 0.95
+	// MaxFPR bounds the partial AUC.
+	MaxFPR = 0.1
+	// OutlierThreshold: a variant scoring above it counts as an outlier
+	// (three times the typical nearest-neighbour distance between
+	// recordings).
+	OutlierThreshold = 3.0
+	// WorstListed is the number of worst variants listed per machine.
+	WorstListed = 5
+	// GaussianContext is the number of consecutive frames the Gaussian
+	// detector stacks; KNNNeighbours the k of the kNN detector.
+	GaussianContext = 3
+	KNNNeighbours   = 1
+)
+
+// Names of the training sets.
+const (
+	SetRecorded = "recorded"
+	SetExpanded = "expanded"
+	SetMasked   = "expanded+masked"
+	// SetWithout prefixes an ablation set's name; the step kind follows.
+	SetWithout = "expanded-without-"
+)
+
+// Options configure Run. Out is required.
+type Options struct {
+	Out string
+	// Seed seeds the bootstraps; 0 takes the plant seed from plan.json.
+	Seed uint64
+	// Rounds is the number of bootstrap resamples (0: DefaultRounds).
+	Rounds int
+	// PerCondition trains one detector per machine and condition.
+	PerCondition bool
+	// Masked adds the training set with the masked copies.
+	Masked bool
+	// Ablate adds one training set per step kind left out.
+	Ablate  bool
+	Workers int // pool.Size(Workers) goroutines
+	// Progress, when set, is called after each clip loaded, from one
+	// goroutine at a time.
+	Progress func(pool.Event)
+}
+
+// detectorSpec builds a fresh detector.
+type detectorSpec struct {
+	name   string
+	params map[string]int
+	make   func() evaluate.Detector
+}
+
+func detectors() []detectorSpec {
+	return []detectorSpec{
+		{"gaussian", map[string]int{"context": GaussianContext}, func() evaluate.Detector { return evaluate.NewGaussian(GaussianContext) }},
+		{"knn", map[string]int{"k": KNNNeighbours}, func() evaluate.Detector { return evaluate.NewKNN(KNNNeighbours) }},
+	}
+}
+
+// trainSet is one training set of a machine.
+type trainSet struct {
+	info  TrainingSet
+	clips []*clip
+}
+
+// Run evaluates every machine of the output root's features index and
+// writes OUT/evaluate/summary.json and the ROC pictures. It reads
+// OUT/features/index.csv and the .npy files it names, OUT/splits/plan.json
+// and the ledgers; the caller holds the output root's lock.
+func Run(ctx context.Context, opt Options) (*Summary, error) {
+	if opt.Out == "" {
+		return nil, errors.New("evalstage: no output folder")
+	}
+	if opt.Rounds == 0 {
+		opt.Rounds = DefaultRounds
+	}
+	if opt.Rounds < 1 {
+		return nil, fmt.Errorf("evalstage: %d bootstrap rounds", opt.Rounds)
+	}
+	dir := filepath.Join(opt.Out, Dir)
+	if _, err := machine.RemoveTemps(dir); err != nil {
+		return nil, fmt.Errorf("evalstage: %w", err)
+	}
+	clips, err := readIndex(filepath.Join(opt.Out, features.Dir, features.IndexFile))
+	if err != nil {
+		return nil, err
+	}
+	pl, err := readPlan(opt.Out)
+	if err != nil {
+		return nil, err
+	}
+	kinds, err := stepKinds(ctx, opt.Out)
+	if err != nil {
+		return nil, err
+	}
+	for _, c := range clips {
+		if c.origin == machine.OriginAugmented {
+			c.steps = kinds[c.audio]
+		}
+	}
+	seed := opt.Seed
+	if seed == 0 {
+		seed = pl.seed
+	}
+	sum := &Summary{Version: SummaryVersion, Seed: seed, Rounds: opt.Rounds, Level: Level, MaxFPR: MaxFPR,
+		Scored: []string{string(machine.SplitEval), string(machine.SplitTest)}, PerCondition: opt.PerCondition,
+		Masked: opt.Masked, Ablate: opt.Ablate}
+	dets := detectors()
+	for _, d := range dets {
+		sum.Detectors = append(sum.Detectors, DetectorInfo{Name: d.name, Params: d.params})
+	}
+	byMachine := map[string][]*clip{}
+	for _, c := range clips {
+		byMachine[c.machine] = append(byMachine[c.machine], c)
+	}
+	ids := slices.Sorted(func(yield func(string) bool) {
+		for id := range byMachine {
+			if !yield(id) {
+				return
+			}
+		}
+	})
+	total := 0
+	need := map[string][]*clip{}
+	for _, id := range ids {
+		need[id] = needed(byMachine[id], opt.Masked)
+		total += len(need[id])
+	}
+	prog := pool.NewReporter(opt.Progress, "evaluate", pool.UnitClips, int64(total))
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return nil, fmt.Errorf("evalstage: %w", err)
+	}
+	written := map[string]bool{}
+	for _, id := range ids {
+		if err := load(ctx, opt.Out, need[id], opt.Workers, prog); err != nil {
+			return nil, err
+		}
+		ms, err := evalMachine(ctx, id, byMachine[id], pl, seed, opt, dets)
+		if err != nil {
+			return nil, err
+		}
+		if ms.ROC != "" {
+			written[path.Base(ms.ROC)] = true
+		}
+		sum.Machines = append(sum.Machines, *ms)
+		for _, c := range need[id] {
+			c.data, c.emb = nil, nil // memory stays one machine deep
+		}
+	}
+	b, err := sum.JSON()
+	if err != nil {
+		return nil, fmt.Errorf("evalstage: summary: %w", err)
+	}
+	if err := writeIfChanged(filepath.Join(dir, SummaryFile), b); err != nil {
+		return nil, err
+	}
+	if err := sweep(opt.Out, written); err != nil {
+		return nil, err
+	}
+	return sum, nil
+}
+
+// needed lists the clips of one machine whose arrays the stage reads.
+func needed(cs []*clip, masked bool) []*clip {
+	anomalous := map[string]bool{}
+	for _, c := range cs {
+		if c.scored() && c.label == machine.LabelAnomalous {
+			anomalous[c.condition] = true
+		}
+	}
+	var out []*clip
+	for _, c := range cs {
+		switch {
+		case c.training() && (c.maskOf == "" || masked):
+			out = append(out, c)
+		case c.scored():
+			out = append(out, c)
+		case c.cue() && !anomalous[c.condition]:
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+// evalMachine fits and scores one machine's detectors and measures its
+// variants' credibility.
+func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint64, opt Options, dets []detectorSpec) (*MachineSummary, error) {
+	ms := &MachineSummary{Machine: id, Results: []Result{}, Proxy: []Result{}}
+	conds := conditionOrder(id, cs, pl)
+	holdOut := func(c string) bool { return pl.holdOut[id+"/"+c] }
+	anomalous := map[string]bool{}
+	for _, c := range cs {
+		if c.scored() && c.label == machine.LabelAnomalous {
+			anomalous[c.condition] = true
+		}
+	}
+	// targets: every clip a detector scores
+	var targets []*clip
+	for _, c := range cs {
+		if c.scored() || (c.cue() && !anomalous[c.condition]) {
+			targets = append(targets, c)
+		}
+	}
+	sets := trainingSets(cs, opt)
+	for _, s := range sets {
+		ms.Training = append(ms.Training, s.info)
+	}
+	// jobs: (set, detector, training condition or "" for machine-wide)
+	type job struct {
+		set, det int
+		cond     string
+	}
+	var jobs []job
+	scopes := []string{""}
+	if opt.PerCondition {
+		scopes = nil
+		for _, c := range conds {
+			if !holdOut(c) {
+				scopes = append(scopes, c)
+			}
+		}
+		for _, c := range conds {
+			if holdOut(c) {
+				scopes = append(scopes, "")
+				break
+			}
+		}
+	}
+	for si := range sets {
+		for di := range dets {
+			for _, sc := range scopes {
+				jobs = append(jobs, job{si, di, sc})
+			}
+		}
+	}
+	scores := make([][][]float64, len(sets))
+	for si := range scores {
+		scores[si] = make([][]float64, len(dets))
+		for di := range dets {
+			scores[si][di] = make([]float64, len(targets))
+			for k := range scores[si][di] {
+				scores[si][di][k] = math.NaN()
+			}
+		}
+	}
+	err := pool.Each(ctx, len(jobs), opt.Workers, func(ctx context.Context, _, i int) error {
+		j := jobs[i]
+		var train [][][]float64
+		for _, c := range sets[j.set].clips {
+			if j.cond == "" || c.condition == j.cond {
+				train = append(train, c.data)
+			}
+		}
+		if len(train) == 0 {
+			return nil
+		}
+		d := dets[j.det].make()
+		if err := d.Fit(train); err != nil {
+			return fmt.Errorf("evalstage: machine %s: %s detector on training set %s: %w", id, dets[j.det].name, sets[j.set].info.Name, err)
+		}
+		for k, t := range targets {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+			mine := t.condition == j.cond
+			if j.cond == "" {
+				mine = !opt.PerCondition || holdOut(t.condition)
+			}
+			if mine {
+				scores[j.set][j.det][k] = d.Score(t.data)
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	// scopes of the results: the machine's training conditions pooled,
+	// then each condition
+	type scope struct {
+		name, cond string
+		holdOut    bool
+		in         func(c *clip) bool
+	}
+	scs := []scope{{name: "machine", in: func(c *clip) bool { return !holdOut(c.condition) }}}
+	for _, c := range conds {
+		c := c
+		scs = append(scs, scope{name: "condition", cond: c, holdOut: holdOut(c), in: func(x *clip) bool { return x.condition == c }})
+	}
+	rocs := map[string][]rocSource{}
+	for _, sc := range scs {
+		var real, proxy []int
+		var nNorm, nAnom, nCue int
+		for k, t := range targets {
+			if !sc.in(t) {
+				continue
+			}
+			switch {
+			case t.scored() && t.label == machine.LabelAnomalous:
+				nAnom++
+				real = append(real, k)
+			case t.scored():
+				nNorm++
+				real = append(real, k)
+				proxy = append(proxy, k)
+			case t.cue():
+				nCue++
+				proxy = append(proxy, k)
+			}
+		}
+		isProxy := false
+		idx := real
+		switch {
+		case nNorm > 0 && nAnom > 0:
+		case nNorm > 0 && nAnom == 0 && nCue > 0:
+			isProxy, idx = true, proxy
+		default:
+			continue
+		}
+		for di, d := range dets {
+			r := Result{Scope: sc.name, Condition: sc.cond, HoldOut: sc.holdOut, Detector: d.name, Proxy: isProxy}
+			lab := func(t *clip) bool { return t.label == machine.LabelAnomalous || t.cue() }
+			ng, ag := map[string]bool{}, map[string]bool{}
+			for _, k := range idx {
+				if lab(targets[k]) {
+					r.Anomalous++
+					ag[targets[k].group] = true
+				} else {
+					r.Normal++
+					ng[targets[k].group] = true
+				}
+			}
+			r.NormalGroups, r.AnomalousGroups = len(ng), len(ag)
+			cellSeed := func(metric string) uint64 {
+				return seedOf(seed, id, sc.name, sc.cond, d.name, metric, fmt.Sprint(isProxy))
+			}
+			scored := func(si int) []evaluate.Scored {
+				out := make([]evaluate.Scored, len(idx))
+				for n, k := range idx {
+					out[n] = evaluate.Scored{Score: scores[si][di][k], Anomalous: lab(targets[k]), Group: targets[k].group}
+				}
+				return out
+			}
+			base := scored(0)
+			for si, s := range sets {
+				ss := scored(si)
+				if !allFinite(ss) {
+					r.Sets = append(r.Sets, SetScore{Set: s.info.Name, AUC: NaN, AUCCI: [2]Num{NaN, NaN}, PAUC: NaN, PAUCCI: [2]Num{NaN, NaN}})
+					continue
+				}
+				st := SetScore{Set: s.info.Name, AUC: Num(evaluate.AUC(ss)), PAUC: Num(pauc(ss))}
+				st.AUCCI = ci(evaluate.BootstrapCI(ss, evaluate.AUC, opt.Rounds, Level, cellSeed("auc")))
+				st.PAUCCI = ci(evaluate.BootstrapCI(ss, pauc, opt.Rounds, Level, cellSeed("pauc")))
+				if si > 0 && allFinite(base) {
+					df := &Diff{}
+					v, iv := pairedDiff(base, ss, evaluate.AUC, opt.Rounds, Level, cellSeed("auc-diff"))
+					df.AUC, df.AUCCI = Num(v), ci(iv)
+					v, iv = pairedDiff(base, ss, pauc, opt.Rounds, Level, cellSeed("pauc-diff"))
+					df.PAUC, df.PAUCCI = Num(v), ci(iv)
+					st.VsRecorded = df
+				}
+				r.Sets = append(r.Sets, st)
+				// the ROC picture: recorded and expanded, on the machine's
+				// training conditions and on each hold-out condition
+				if !isProxy && si < 2 && (r.Scope == "machine" || r.HoldOut) {
+					label := s.info.Name + " · all training conditions"
+					if r.HoldOut {
+						label = s.info.Name + " · " + r.Condition + " (hold-out)"
+					}
+					f, t := evaluate.ROC(ss)
+					rocs[d.name] = append(rocs[d.name], rocSource{label: label, fpr: f, tpr: t, style: si, dashed: r.HoldOut})
+				}
+			}
+			if isProxy {
+				ms.Proxy = append(ms.Proxy, r)
+			} else {
+				ms.Results = append(ms.Results, r)
+			}
+		}
+	}
+	if len(rocs) > 0 {
+		var panels []features.ROCPanel
+		for _, d := range dets {
+			if len(rocs[d.name]) == 0 {
+				continue
+			}
+			p := features.ROCPanel{Title: fmt.Sprintf("%s · %s detector\nrecorded eval and test clips", id, d.name), MaxFPR: MaxFPR}
+			for _, s := range rocs[d.name] {
+				p.Curves = append(p.Curves, features.ROCCurve{Label: s.label, FPR: s.fpr, TPR: s.tpr, Style: s.style, Dashed: s.dashed})
+			}
+			panels = append(panels, p)
+		}
+		name := id + rocSuffix
+		if err := features.ROCPNG(filepath.Join(opt.Out, Dir, name), panels); err != nil {
+			return nil, err
+		}
+		ms.ROC = path.Join(Dir, name)
+	}
+	cred, err := credibility(cs, conds, holdOut)
+	if err != nil {
+		return nil, fmt.Errorf("evalstage: machine %s: %w", id, err)
+	}
+	ms.Credibility = cred
+	return ms, nil
+}
+
+type rocSource struct {
+	label    string
+	fpr, tpr []float64
+	style    int
+	dashed   bool
+}
+
+func pauc(s []evaluate.Scored) float64 { return evaluate.PartialAUC(s, MaxFPR) }
+
+func ci(iv evaluate.Interval) [2]Num { return [2]Num{Num(iv.Lo), Num(iv.Hi)} }
+
+func allFinite(s []evaluate.Scored) bool {
+	for _, x := range s {
+		if math.IsNaN(x.Score) || math.IsInf(x.Score, 0) {
+			return false
+		}
+	}
+	return len(s) > 0
+}
+
+// conditionOrder lists a machine's conditions in plant order, then any
+// other condition of the index in lexical order.
+func conditionOrder(id string, cs []*clip, pl plan) []string {
+	seen := map[string]bool{}
+	for _, c := range cs {
+		seen[c.condition] = true
+	}
+	var out []string
+	for _, k := range pl.order {
+		m, c, _ := strings.Cut(k, "/")
+		if m == id && seen[c] {
+			out = append(out, c)
+			delete(seen, c)
+		}
+	}
+	rest := make([]string, 0, len(seen))
+	for c := range seen {
+		rest = append(rest, c)
+	}
+	sort.Strings(rest)
+	return append(out, rest...)
+}
+
+// trainingSets builds a machine's training sets from its train-normal
+// rows, in index order.
+func trainingSets(cs []*clip, opt Options) []trainSet {
+	var rec, exp, masked []*clip
+	kinds := map[string]bool{}
+	for _, c := range cs {
+		if !c.training() {
+			continue
+		}
+		if c.maskOf != "" {
+			masked = append(masked, c)
+			continue
+		}
+		exp = append(exp, c)
+		if c.origin == machine.OriginRecorded {
+			rec = append(rec, c)
+		}
+		for _, k := range c.steps {
+			kinds[k] = true
+		}
+	}
+	mk := func(name string, clips []*clip) trainSet {
+		t := trainSet{info: TrainingSet{Name: name, Clips: len(clips), Origins: map[string]int{}}, clips: clips}
+		for _, c := range clips {
+			o := string(c.origin)
+			if c.maskOf != "" {
+				o = "masked"
+			}
+			t.info.Origins[o]++
+		}
+		return t
+	}
+	sets := []trainSet{mk(SetRecorded, rec), mk(SetExpanded, exp)}
+	if opt.Masked {
+		sets = append(sets, mk(SetMasked, append(slices.Clone(exp), masked...)))
+	}
+	if opt.Ablate {
+		for _, k := range slices.Sorted(func(yield func(string) bool) {
+			for k := range kinds {
+				if !yield(k) {
+					return
+				}
+			}
+		}) {
+			var keep []*clip
+			for _, c := range exp {
+				if !slices.Contains(c.steps, k) {
+					keep = append(keep, c)
+				}
+			}
+			t := mk(SetWithout+k, keep)
+			t.info.LeftOut, t.info.Dropped = k, len(exp)-len(keep)
+			sets = append(sets, t)
+		}
+	}
+	return sets
+}
+
+// seedOf derives a bootstrap seed: the first 8 bytes (little-endian) of
+// the SHA-256 of the base seed and the parts, each ended by a zero byte.
+func seedOf(base uint64, parts ...string) uint64 {
+	h := sha256.New()
+	var b [8]byte
+	binary.LittleEndian.PutUint64(b[:], base)
+	h.Write(b[:])
+	for _, p := range parts {
+		h.Write([]byte(p))
+		h.Write([]byte{0})
+	}
+	return binary.LittleEndian.Uint64(h.Sum(nil))
+}
+
+// pairedDiff returns metric(b) − metric(a) and its percentile interval
+// over rounds resamples of whole groups, normal and anomalous groups drawn
+// separately with replacement; each resample draws the groups once and
+// scores both a and b on them. a and b hold the same clips in the same
+// order, scored by two models.
+func pairedDiff(a, b []evaluate.Scored, metric func([]evaluate.Scored) float64, rounds int, level float64, seed uint64) (float64, evaluate.Interval) {
+	d := metric(b) - metric(a)
+	type key struct {
+		g    string
+		anom bool
+	}
+	var norm, anom [][]int
+	at := map[key]int{}
+	for i, s := range a {
+		k := key{s.Group, s.Anomalous}
+		n, ok := at[k]
+		if !ok {
+			if s.Anomalous {
+				n = len(anom)
+				anom = append(anom, nil)
+			} else {
+				n = len(norm)
+				norm = append(norm, nil)
+			}
+			at[k] = n
+		}
+		if s.Anomalous {
+			anom[n] = append(anom[n], i)
+		} else {
+			norm[n] = append(norm[n], i)
+		}
+	}
+	if len(norm) == 0 || len(anom) == 0 {
+		return math.NaN(), evaluate.Interval{Lo: math.NaN(), Hi: math.NaN()}
+	}
+	rng := rand.New(rand.NewPCG(seed, 0x6576616c75617465)) // "evaluate"
+	vals := make([]float64, 0, rounds)
+	ra, rb := make([]evaluate.Scored, 0, len(a)), make([]evaluate.Scored, 0, len(b))
+	for r := 0; r < rounds; r++ {
+		ra, rb = ra[:0], rb[:0]
+		for _, gs := range [][][]int{norm, anom} {
+			for range gs {
+				for _, i := range gs[rng.IntN(len(gs))] {
+					ra = append(ra, a[i])
+					rb = append(rb, b[i])
+				}
+			}
+		}
+		if v := metric(rb) - metric(ra); !math.IsNaN(v) {
+			vals = append(vals, v)
+		}
+	}
+	if len(vals) == 0 {
+		return d, evaluate.Interval{Lo: math.NaN(), Hi: math.NaN()}
+	}
+	sort.Float64s(vals)
+	q := func(p float64) float64 {
+		x := p * float64(len(vals)-1)
+		i := int(math.Floor(x))
+		if i+1 >= len(vals) {
+			return vals[len(vals)-1]
+		}
+		return vals[i] + (x-float64(i))*(vals[i+1]-vals[i])
+	}
+	alpha := (1 - level) / 2
+	return d, evaluate.Interval{Lo: q(alpha), Hi: q(1 - alpha)}
+}
+
+// writeIfChanged writes b to file atomically unless it already holds b.
+func writeIfChanged(file string, b []byte) error {
+	if old, err := os.ReadFile(file); err == nil && string(old) == string(b) {
+		return nil
+	}
+	if err := machine.WriteFileAtomic(file, b); err != nil {
+		return fmt.Errorf("evalstage: %w", err)
+	}
+	return nil
+}
+
+// sweep moves the ROC pictures of OUT/evaluate that this run did not write
+// to OUT/.stale.
+func sweep(out string, written map[string]bool) error {
+	ents, err := os.ReadDir(filepath.Join(out, Dir))
+	if err != nil {
+		return fmt.Errorf("evalstage: %w", err)
+	}
+	for _, e := range ents {
+		n := e.Name()
+		if e.IsDir() || !strings.HasSuffix(n, rocSuffix) || written[n] {
+			continue
+		}
+		if _, err := machine.MoveStale(out, path.Join(Dir, n)); err != nil {
+			return err
+		}
+	}
+	return nil
+}
