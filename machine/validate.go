@@ -55,7 +55,9 @@ func ValidID(s string) bool {
 // folders and run's report. A machine id may not be one of them, or its
 // folder and the stage's output would be the same path. Names starting with
 // '.' are not listed: no id may start with one.
-func ReservedOutNames() []string { return []string{"features", "splits", "report.html"} }
+func ReservedOutNames() []string {
+	return []string{"evaluate", "features", "splits", "report.html"}
+}
 
 type validator struct {
 	file string

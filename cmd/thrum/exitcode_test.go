@@ -45,6 +45,8 @@ func TestExitCodes(t *testing.T) {
 		{"bad flag", []string{"survey", "--bogus", plant}, exitUsage, "unknown flag: --bogus"},
 		{"missing argument", []string{"survey"}, exitUsage, "accepts 1 arg"},
 		{"problems", []string{"survey", "--strict", plant}, exitProblems, ""},
+		{"evaluate without features", []string{"evaluate", dir}, exitError, "index.csv"},
+		{"evaluate bad rounds", []string{"evaluate", dir, "--rounds", "0"}, exitUsage, "--rounds 0"},
 	}
 	exe, err := os.Executable()
 	if err != nil {

@@ -1,18 +1,20 @@
 package evalstage
 
 import (
+	"context"
 	"math"
 	"slices"
 	"sort"
 
 	"thrum/features/evaluate"
 	"thrum/machine"
+	"thrum/machine/pool"
 )
 
 // credibility measures a machine's variants against its recordings (see
 // the package doc). Distances that need more clips than there are have no
 // value.
-func credibility(cs []*clip, conds []string, holdOut func(string) bool) (Credibility, error) {
+func credibility(ctx context.Context, cs []*clip, conds []string, holdOut func(string) bool, workers int) (Credibility, error) {
 	cr := Credibility{OutlierThreshold: OutlierThreshold, Conditions: []ConditionCredibility{}, Between: []ConditionPair{}, Worst: []VariantScore{}}
 	emb := func(c *clip) []float64 {
 		if c.emb == nil {
@@ -21,7 +23,14 @@ func credibility(cs []*clip, conds []string, holdOut func(string) bool) (Credibi
 		return c.emb
 	}
 	normals := map[string][][]float64{} // recorded normal clips of any split
+	// the Fréchet distances (eigendecompositions) run on the worker pool
+	type task struct {
+		a, b [][]float64
+		dst  *Num
+	}
+	var tasks []task
 	var worst []VariantScore
+	var sets [][3][][]float64 // per condition: recorded, variants, eval normals
 	for _, cond := range conds {
 		var rec, vars, evn [][]float64
 		var varClips []*clip
@@ -42,7 +51,7 @@ func credibility(cs []*clip, conds []string, holdOut func(string) bool) (Credibi
 			}
 		}
 		cc := ConditionCredibility{Condition: cond, HoldOut: holdOut(cond), Recorded: len(rec), Variants: len(vars), EvalNorm: len(evn),
-			FrechetVariants: frechet(rec, vars), FrechetEval: frechet(rec, evn), OutlierMedian: NaN, OutlierMax: NaN}
+			FrechetVariants: NaN, FrechetEval: NaN, OutlierMedian: NaN, OutlierMax: NaN}
 		if len(rec) >= 2 && len(vars) > 0 {
 			sc := evaluate.OutlierScores(rec, vars)
 			sorted := slices.Clone(sc)
@@ -57,11 +66,29 @@ func credibility(cs []*clip, conds []string, holdOut func(string) bool) (Credibi
 			}
 		}
 		cr.Conditions = append(cr.Conditions, cc)
+		sets = append(sets, [3][][]float64{rec, vars, evn})
 	}
 	for i, a := range conds {
 		for _, b := range conds[i+1:] {
-			cr.Between = append(cr.Between, ConditionPair{A: a, B: b, Frechet: frechet(normals[a], normals[b])})
+			cr.Between = append(cr.Between, ConditionPair{A: a, B: b, Frechet: NaN})
 		}
+	}
+	k := 0
+	for i, a := range conds {
+		for _, b := range conds[i+1:] {
+			tasks = append(tasks, task{normals[a], normals[b], &cr.Between[k].Frechet})
+			k++
+		}
+	}
+	for i := range cr.Conditions {
+		c := &cr.Conditions[i]
+		tasks = append(tasks, task{sets[i][0], sets[i][1], &c.FrechetVariants}, task{sets[i][0], sets[i][2], &c.FrechetEval})
+	}
+	if err := pool.Each(ctx, len(tasks), workers, func(_ context.Context, _, i int) error {
+		*tasks[i].dst = frechet(tasks[i].a, tasks[i].b)
+		return nil
+	}); err != nil {
+		return cr, err
 	}
 	sort.SliceStable(worst, func(i, j int) bool {
 		si, sj := float64(worst[i].Score), float64(worst[j].Score)

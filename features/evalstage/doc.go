@@ -33,14 +33,13 @@
 //
 // Intervals resample whole groups (the clips of one recording or session
 // are not independent): normal and anomalous groups are drawn separately,
-// with replacement, Rounds times. A training set's own interval is
-// evaluate.BootstrapCI. The difference between a training set and the
-// recorded-only one is bootstrapped on the same resamples (one draw of
-// groups scores both), and its interval is the percentile interval of the
-// differences (linear interpolation between order statistics). Seeds
-// derive from the plant seed (plan.json) or Options.Seed, the machine, the
-// condition, the detector and the metric, so adding a training set or a
-// machine changes no other interval.
+// with replacement, Rounds times (evaluate.BootstrapCI). The difference
+// between a training set and the recorded-only one is bootstrapped on the
+// same resamples (evaluate.BootstrapDiffCI: one draw of groups scores
+// both). Every interval of one scope, detector and metric uses the same
+// seed, so the same draws: the seed derives from the plant seed (plan.json)
+// or Options.Seed, the machine, the scope, the detector and the metric, and
+// adding a training set or a machine changes no other interval.
 //
 // # Proxy scores
 //

@@ -7,7 +7,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"os"
 	"path"
 	"path/filepath"
@@ -386,12 +385,10 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 				st.AUCCI = ci(evaluate.BootstrapCI(ss, evaluate.AUC, opt.Rounds, Level, cellSeed("auc")))
 				st.PAUCCI = ci(evaluate.BootstrapCI(ss, pauc, opt.Rounds, Level, cellSeed("pauc")))
 				if si > 0 && allFinite(base) {
-					df := &Diff{}
-					v, iv := pairedDiff(base, ss, evaluate.AUC, opt.Rounds, Level, cellSeed("auc-diff"))
-					df.AUC, df.AUCCI = Num(v), ci(iv)
-					v, iv = pairedDiff(base, ss, pauc, opt.Rounds, Level, cellSeed("pauc-diff"))
-					df.PAUC, df.PAUCCI = Num(v), ci(iv)
-					st.VsRecorded = df
+					st.VsRecorded = &Diff{
+						AUC: st.AUC - Num(evaluate.AUC(base)), AUCCI: ci(evaluate.BootstrapDiffCI(base, ss, evaluate.AUC, opt.Rounds, Level, cellSeed("auc"))),
+						PAUC: st.PAUC - Num(pauc(base)), PAUCCI: ci(evaluate.BootstrapDiffCI(base, ss, pauc, opt.Rounds, Level, cellSeed("pauc"))),
+					}
 				}
 				r.Sets = append(r.Sets, st)
 				// the ROC picture: recorded and expanded, on the machine's
@@ -430,7 +427,7 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 		}
 		ms.ROC = path.Join(Dir, name)
 	}
-	cred, err := credibility(cs, conds, holdOut)
+	cred, err := credibility(ctx, cs, conds, holdOut, opt.Workers)
 	if err != nil {
 		return nil, fmt.Errorf("evalstage: machine %s: %w", id, err)
 	}
@@ -551,74 +548,6 @@ func seedOf(base uint64, parts ...string) uint64 {
 		h.Write([]byte{0})
 	}
 	return binary.LittleEndian.Uint64(h.Sum(nil))
-}
-
-// pairedDiff returns metric(b) − metric(a) and its percentile interval
-// over rounds resamples of whole groups, normal and anomalous groups drawn
-// separately with replacement; each resample draws the groups once and
-// scores both a and b on them. a and b hold the same clips in the same
-// order, scored by two models.
-func pairedDiff(a, b []evaluate.Scored, metric func([]evaluate.Scored) float64, rounds int, level float64, seed uint64) (float64, evaluate.Interval) {
-	d := metric(b) - metric(a)
-	type key struct {
-		g    string
-		anom bool
-	}
-	var norm, anom [][]int
-	at := map[key]int{}
-	for i, s := range a {
-		k := key{s.Group, s.Anomalous}
-		n, ok := at[k]
-		if !ok {
-			if s.Anomalous {
-				n = len(anom)
-				anom = append(anom, nil)
-			} else {
-				n = len(norm)
-				norm = append(norm, nil)
-			}
-			at[k] = n
-		}
-		if s.Anomalous {
-			anom[n] = append(anom[n], i)
-		} else {
-			norm[n] = append(norm[n], i)
-		}
-	}
-	if len(norm) == 0 || len(anom) == 0 {
-		return math.NaN(), evaluate.Interval{Lo: math.NaN(), Hi: math.NaN()}
-	}
-	rng := rand.New(rand.NewPCG(seed, 0x6576616c75617465)) // "evaluate"
-	vals := make([]float64, 0, rounds)
-	ra, rb := make([]evaluate.Scored, 0, len(a)), make([]evaluate.Scored, 0, len(b))
-	for r := 0; r < rounds; r++ {
-		ra, rb = ra[:0], rb[:0]
-		for _, gs := range [][][]int{norm, anom} {
-			for range gs {
-				for _, i := range gs[rng.IntN(len(gs))] {
-					ra = append(ra, a[i])
-					rb = append(rb, b[i])
-				}
-			}
-		}
-		if v := metric(rb) - metric(ra); !math.IsNaN(v) {
-			vals = append(vals, v)
-		}
-	}
-	if len(vals) == 0 {
-		return d, evaluate.Interval{Lo: math.NaN(), Hi: math.NaN()}
-	}
-	sort.Float64s(vals)
-	q := func(p float64) float64 {
-		x := p * float64(len(vals)-1)
-		i := int(math.Floor(x))
-		if i+1 >= len(vals) {
-			return vals[len(vals)-1]
-		}
-		return vals[i] + (x-float64(i))*(vals[i+1]-vals[i])
-	}
-	alpha := (1 - level) / 2
-	return d, evaluate.Interval{Lo: q(alpha), Hi: q(1 - alpha)}
 }
 
 // writeIfChanged writes b to file atomically unless it already holds b.
