@@ -41,6 +41,10 @@ func TestEvaluateEndToEnd(t *testing.T) {
 		t.Error("report.html has no evaluation section with the pump's ROC picture")
 	}
 	for _, j := range []string{"1", "2"} {
+		// without the summary, nothing is reused: evaluate computes afresh
+		if err := os.Remove(file); err != nil {
+			t.Fatal(err)
+		}
 		if _, stderr, code := cli(t, "evaluate", out, "-q", "-j", j); code != exitOK {
 			t.Fatalf("evaluate -j %s: exit %d: %s", j, code, stderr)
 		}

@@ -14,6 +14,7 @@ import (
 	"slices"
 	"strings"
 	"testing"
+	"time"
 
 	"thrum/features"
 	"thrum/machine"
@@ -152,9 +153,27 @@ func TestRunOnSmallPlant(t *testing.T) {
 	if _, err := os.Stat(filepath.Join(out, machine.StaleDir, Dir, "gone"+rocSuffix)); err != nil {
 		t.Errorf("the stray picture was not moved to %s: %v", machine.StaleDir, err)
 	}
+	// a rerun with the same inputs reuses the summary: nothing is written
+	sumFile := filepath.Join(out, Dir, SummaryFile)
+	st0, _ := os.Stat(sumFile)
+	if err := os.Chtimes(sumFile, st0.ModTime().Add(-time.Hour), st0.ModTime().Add(-time.Hour)); err != nil {
+		t.Fatal(err)
+	}
+	runFake(t, out, Options{Workers: 2, Masked: true})
+	if st1, _ := os.Stat(sumFile); !st1.ModTime().Equal(st0.ModTime().Add(-time.Hour)) {
+		t.Error("a rerun with the same inputs rewrote summary.json")
+	}
+	if err := os.Remove(sumFile); err != nil {
+		t.Fatal(err)
+	}
 	_, b3 := runFake(t, out, Options{Workers: 3, Masked: true})
 	if !bytes.Equal(b1, b3) {
 		t.Error("summary.json differs between 1 and 3 workers")
+	}
+	// another option is another input
+	s2, _ := runFake(t, out, Options{Workers: 3})
+	if s2.Inputs == s.Inputs || s2.Masked {
+		t.Error("dropping --masked reused the summary made with it")
 	}
 	if len(s.Machines) != 1 {
 		t.Fatalf("%d machines, want 1", len(s.Machines))

@@ -1,6 +1,7 @@
 package evalstage
 
 import (
+	"bytes"
 	"context"
 	"encoding/csv"
 	"errors"
@@ -54,17 +55,18 @@ func (c *clip) cue() bool {
 
 var indexColumns = []string{"path", "use", "mask_of", "audio", "machine", "condition", "group", "origin", "label", "split", "frames", "bands"}
 
-// readIndex reads OUT/features/index.csv. Errors name the file and line.
-func readIndex(file string) ([]*clip, error) {
-	f, err := os.Open(file)
+// readIndex reads OUT/features/index.csv and returns its rows and bytes.
+// Errors name the file and line.
+func readIndex(file string) ([]*clip, []byte, error) {
+	b, err := os.ReadFile(file)
 	if err != nil {
 		if errors.Is(err, os.ErrNotExist) {
-			return nil, fmt.Errorf("evalstage: %s: no features index (run the features stage first)", file)
+			return nil, nil, fmt.Errorf("evalstage: %s: no features index (run the features stage first)", file)
 		}
-		return nil, fmt.Errorf("evalstage: %w", err)
+		return nil, nil, fmt.Errorf("evalstage: %w", err)
 	}
-	defer f.Close()
-	return parseIndex(f, file)
+	cs, err := parseIndex(bytes.NewReader(b), file)
+	return cs, b, err
 }
 
 func parseIndex(r io.Reader, file string) ([]*clip, error) {
@@ -137,6 +139,7 @@ func checkTrainingRow(c *clip) error {
 
 // plan is what the stage takes from OUT/splits/plan.json.
 type plan struct {
+	raw  []byte // the file's bytes
 	seed uint64
 	// holdOut marks the hold-out conditions, order lists every condition,
 	// both as "machine/condition", in plant order.
@@ -147,16 +150,15 @@ type plan struct {
 // readPlan reads OUT/splits/plan.json: the plant seed and the conditions.
 func readPlan(out string) (plan, error) {
 	file := filepath.Join(out, split.SplitsDir, split.PlanFile)
-	f, err := os.Open(file)
+	raw, err := os.ReadFile(file)
 	if err != nil {
 		return plan{}, fmt.Errorf("evalstage: %w (run the split stage first)", err)
 	}
-	defer f.Close()
-	p, err := split.ReadPlan(f)
+	p, err := split.ReadPlan(bytes.NewReader(raw))
 	if err != nil {
 		return plan{}, fmt.Errorf("evalstage: %s: %w", file, err)
 	}
-	pl := plan{seed: p.Policy.Seed, holdOut: map[string]bool{}}
+	pl := plan{raw: raw, seed: p.Policy.Seed, holdOut: map[string]bool{}}
 	for _, c := range p.Policy.Conditions {
 		k := c.Machine + "/" + c.Name
 		pl.order = append(pl.order, k)

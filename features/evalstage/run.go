@@ -1,11 +1,15 @@
 package evalstage
 
 import (
+	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/binary"
+	"encoding/hex"
+	"encoding/json"
 	"errors"
 	"fmt"
+	"maps"
 	"math"
 	"os"
 	"path"
@@ -114,7 +118,7 @@ func Run(ctx context.Context, opt Options) (*Summary, error) {
 	if _, err := machine.RemoveTemps(dir); err != nil {
 		return nil, fmt.Errorf("evalstage: %w", err)
 	}
-	clips, err := readIndex(filepath.Join(opt.Out, features.Dir, features.IndexFile))
+	clips, rawIndex, err := readIndex(filepath.Join(opt.Out, features.Dir, features.IndexFile))
 	if err != nil {
 		return nil, err
 	}
@@ -141,6 +145,10 @@ func Run(ctx context.Context, opt Options) (*Summary, error) {
 	dets := detectors()
 	for _, d := range dets {
 		sum.Detectors = append(sum.Detectors, DetectorInfo{Name: d.name, Params: d.params})
+	}
+	sum.Inputs = inputsHash(sum, rawIndex, pl.raw, kinds)
+	if old := previous(opt.Out, sum.Inputs); old != nil {
+		return old, nil
 	}
 	byMachine := map[string][]*clip{}
 	for _, c := range clips {
@@ -191,6 +199,49 @@ func Run(ctx context.Context, opt Options) (*Summary, error) {
 		return nil, err
 	}
 	return sum, nil
+}
+
+// inputsHash is the SHA-256 of everything a summary depends on: the tool
+// version, the options and settings (the summary before any result), the
+// features index and plan.json, and the step kinds of the variants.
+func inputsHash(s *Summary, index, plan []byte, kinds map[string][]string) string {
+	h := sha256.New()
+	head, _ := json.Marshal(s)
+	fmt.Fprintf(h, "%s\x00%s\x00", machine.ToolVersion, head)
+	for _, b := range [][]byte{index, plan} {
+		fmt.Fprintf(h, "%d\x00", len(b))
+		h.Write(b)
+	}
+	for _, p := range slices.Sorted(maps.Keys(kinds)) {
+		fmt.Fprintf(h, "%s\x00%s\x00", p, strings.Join(kinds[p], ","))
+	}
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// previous returns the summary already in OUT when it was made from the
+// same inputs and its pictures are in place, else nil: a rerun then
+// computes nothing and writes nothing.
+func previous(out, inputs string) *Summary {
+	b, err := os.ReadFile(filepath.Join(out, Dir, SummaryFile))
+	if err != nil {
+		return nil
+	}
+	var s Summary
+	if json.Unmarshal(b, &s) != nil || s.Version != SummaryVersion || s.Inputs != inputs {
+		return nil
+	}
+	for _, m := range s.Machines {
+		if m.ROC == "" {
+			continue
+		}
+		if _, err := os.Stat(filepath.Join(out, filepath.FromSlash(m.ROC))); err != nil {
+			return nil
+		}
+	}
+	if again, err := s.JSON(); err != nil || !bytes.Equal(again, b) {
+		return nil
+	}
+	return &s
 }
 
 // needed lists the clips of one machine whose arrays the stage reads.

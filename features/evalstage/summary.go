@@ -61,13 +61,17 @@ type Summary struct {
 	Rounds int     `json:"bootstrap_rounds"`
 	Level  float64 `json:"interval_level"`
 	// MaxFPR bounds the partial AUC: area for FPR in [0, MaxFPR] / MaxFPR.
-	MaxFPR       float64          `json:"pauc_max_fpr"`
-	Scored       []string         `json:"scored_splits"`
-	PerCondition bool             `json:"per_condition"`
-	Masked       bool             `json:"masked"`
-	Ablate       bool             `json:"ablate"`
-	Detectors    []DetectorInfo   `json:"detectors"`
-	Machines     []MachineSummary `json:"machines"`
+	MaxFPR       float64  `json:"pauc_max_fpr"`
+	Scored       []string `json:"scored_splits"`
+	PerCondition bool     `json:"per_condition"`
+	Masked       bool     `json:"masked"`
+	Ablate       bool     `json:"ablate"`
+	// Inputs is the SHA-256 of everything the summary depends on (tool
+	// version, options, features index, plan.json, the variants' step
+	// kinds): a rerun with the same inputs reuses the summary.
+	Inputs    string           `json:"inputs_sha256"`
+	Detectors []DetectorInfo   `json:"detectors"`
+	Machines  []MachineSummary `json:"machines"`
 }
 
 // DetectorInfo names a detector and its settings.
