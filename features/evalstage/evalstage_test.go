@@ -363,3 +363,31 @@ func TestSeedOf(t *testing.T) {
 		t.Errorf("seedOf = %d", got)
 	}
 }
+
+// A hold-out condition without real anomalies gets domain-shift rows: its
+// normal clips as positives against the trained conditions' normals.
+func TestDomainShiftRows(t *testing.T) {
+	var rows []fakeClip
+	for _, r := range fakePlant() {
+		if r.cond == "b" && r.label == "anomalous" {
+			continue
+		}
+		rows = append(rows, r)
+	}
+	s, _ := runFake(t, fakeOut(t, rows), Options{})
+	m := s.Machines[0]
+	if len(m.Shift) != 2 {
+		t.Fatalf("%d domain-shift rows, want one per detector", len(m.Shift))
+	}
+	for _, r := range m.Shift {
+		// positives: b's 4 normal clips; negatives: the 12 eval normals of a and c
+		if r.Condition != "b" || !r.HoldOut || r.Proxy || r.Anomalous != 4 || r.Normal != 12 || !r.Sets[0].AUC.Valid() {
+			t.Errorf("shift row %+v", r)
+		}
+	}
+	for _, r := range m.Results {
+		if r.Condition == "b" {
+			t.Errorf("real row for the hold-out without anomalies: %+v", r)
+		}
+	}
+}

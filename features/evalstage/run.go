@@ -269,7 +269,7 @@ func needed(cs []*clip, masked bool) []*clip {
 // evalMachine fits and scores one machine's detectors and measures its
 // variants' credibility.
 func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint64, opt Options, dets []detectorSpec) (*MachineSummary, error) {
-	ms := &MachineSummary{Machine: id, Results: []Result{}, Proxy: []Result{}}
+	ms := &MachineSummary{Machine: id, Results: []Result{}, Proxy: []Result{}, Shift: []Result{}}
 	conds := conditionOrder(id, cs, pl)
 	holdOut := func(c string) bool { return pl.holdOut[id+"/"+c] }
 	anomalous := map[string]bool{}
@@ -392,21 +392,36 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 				proxy = append(proxy, k)
 			}
 		}
-		isProxy := false
-		idx := real
+		// the row's kind: real anomalies; else the condition's fault cues
+		// (proxy); else, for a hold-out condition, its normal clips
+		// against the trained conditions' normal clips (domain shift)
+		kind, idx := "real", real
+		pos := func(k int) bool { return targets[k].label == machine.LabelAnomalous || targets[k].cue() }
 		switch {
 		case nNorm > 0 && nAnom > 0:
 		case nNorm > 0 && nAnom == 0 && nCue > 0:
-			isProxy, idx = true, proxy
+			kind, idx = "proxy", proxy
+		case sc.holdOut && nNorm > 0 && nAnom == 0:
+			kind, idx = "shift", nil
+			for k, t := range targets {
+				if t.scored() && t.label == machine.LabelNormal && (sc.in(t) || !holdOut(t.condition)) {
+					idx = append(idx, k)
+				}
+			}
+			pos = func(k int) bool { return sc.in(targets[k]) }
+			if len(idx) == nNorm {
+				continue // no trained-condition normals to compare with
+			}
 		default:
 			continue
 		}
+		isProxy := kind == "proxy"
 		for di, d := range dets {
 			r := Result{Scope: sc.name, Condition: sc.cond, HoldOut: sc.holdOut, Detector: d.name, Proxy: isProxy}
-			lab := func(t *clip) bool { return t.label == machine.LabelAnomalous || t.cue() }
+			lab := func(k int) bool { return pos(k) }
 			ng, ag := map[string]bool{}, map[string]bool{}
 			for _, k := range idx {
-				if lab(targets[k]) {
+				if lab(k) {
 					r.Anomalous++
 					ag[targets[k].group] = true
 				} else {
@@ -416,12 +431,12 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 			}
 			r.NormalGroups, r.AnomalousGroups = len(ng), len(ag)
 			cellSeed := func(metric string) uint64 {
-				return seedOf(seed, id, sc.name, sc.cond, d.name, metric, fmt.Sprint(isProxy))
+				return seedOf(seed, id, sc.name, sc.cond, d.name, metric, kind)
 			}
 			scored := func(si int) []evaluate.Scored {
 				out := make([]evaluate.Scored, len(idx))
 				for n, k := range idx {
-					out[n] = evaluate.Scored{Score: scores[si][di][k], Anomalous: lab(targets[k]), Group: targets[k].group}
+					out[n] = evaluate.Scored{Score: scores[si][di][k], Anomalous: lab(k), Group: targets[k].group}
 				}
 				return out
 			}
@@ -444,7 +459,7 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 				r.Sets = append(r.Sets, st)
 				// the ROC picture: recorded and expanded, on the machine's
 				// training conditions and on each hold-out condition
-				if !isProxy && si < 2 && (r.Scope == "machine" || r.HoldOut) {
+				if kind == "real" && si < 2 && (r.Scope == "machine" || r.HoldOut) {
 					label := s.info.Name + " · all training conditions"
 					if r.HoldOut {
 						label = s.info.Name + " · " + r.Condition + " (hold-out)"
@@ -453,9 +468,12 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 					rocs[d.name] = append(rocs[d.name], rocSource{label: label, fpr: f, tpr: t, style: si, dashed: r.HoldOut})
 				}
 			}
-			if isProxy {
+			switch kind {
+			case "proxy":
 				ms.Proxy = append(ms.Proxy, r)
-			} else {
+			case "shift":
+				ms.Shift = append(ms.Shift, r)
+			default:
 				ms.Results = append(ms.Results, r)
 			}
 		}

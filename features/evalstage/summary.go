@@ -88,7 +88,13 @@ type MachineSummary struct {
 	Results []Result `json:"results"`
 	// Proxy rows score synthetic fault cues as positives, for scopes with
 	// no real anomalous clip; never an estimate on real faults.
-	Proxy       []Result    `json:"proxy"`
+	Proxy []Result `json:"proxy"`
+	// Shift rows, for a hold-out condition without real anomalies, score
+	// its normal clips (counted as Anomalous, the positives) against the
+	// normal clips of the trained conditions (Normal): how far the
+	// detector takes an unseen operating point for an anomaly (0.5: not
+	// at all; 1: every clip of it).
+	Shift       []Result    `json:"domain_shift"`
 	Credibility Credibility `json:"credibility"`
 	// ROC is the ROC picture, relative to the output root ("" when no
 	// scope had real anomalies).

@@ -100,6 +100,12 @@ func (s *Summary) Tables() []features.ReportTable {
 		tabs = append(tabs, features.ReportTable{Title: "PROXY AUC: synthetic fault cues, not real anomalies", Header: ph, Rows: pr,
 			Note: "Only for scopes with no real anomalous clip. The cues are made from training clips the detectors have seen: a check that the detectors react to the cues, not an estimate of performance on real faults."})
 	}
+	if sr := metricRows(func(m MachineSummary) []Result { return m.Shift }, true); len(sr) > 0 {
+		sh := append([]string(nil), head...)
+		sh[3] = "trained-condition/hold-out normals (groups)"
+		tabs = append(tabs, features.ReportTable{Title: "Domain shift: hold-out normal clips against the trained conditions' normal clips (AUC)", Header: sh, Rows: sr,
+			Note: "For a hold-out condition without real anomalies: how readily the detector takes the unseen operating point for an anomaly. 0.5: it scores the hold-out's normal clips like the trained conditions' ones; 1: it flags every one of them. Lower is better; a negative difference means the variants made the unseen condition look more normal."})
+	}
 	var cred, between, worst [][]string
 	for _, m := range s.Machines {
 		for _, c := range m.Credibility.Conditions {
