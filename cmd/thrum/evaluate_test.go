@@ -151,3 +151,41 @@ func jsonKeys(v any, keys map[string]bool) {
 		}
 	}
 }
+
+// BenchmarkDemoEvaluate compares evaluate with the run before it on the
+// demo plant: "run" is the pipeline without evaluate on a fresh output
+// root, "evaluate" the evaluate stage alone on its result (computed afresh
+// each time).
+func BenchmarkDemoEvaluate(b *testing.B) {
+	plant := demo(b)
+	dir := filepath.Dir(plant)
+	out := filepath.Join(dir, "out")
+	b.Run("run", func(b *testing.B) {
+		for i := 0; i < b.N; i++ {
+			o := filepath.Join(dir, "bench-run", strings.Repeat("x", i+1))
+			if _, stderr, code := cli(b, "run", plant, "--out", o, "-q", "--no-evaluate"); code != exitOK {
+				b.Fatal(stderr)
+			}
+			if i == 0 {
+				b.StopTimer()
+				os.Rename(o, out)
+				b.StartTimer()
+			}
+		}
+	})
+	b.Run("evaluate", func(b *testing.B) {
+		if _, err := os.Stat(out); err != nil {
+			b.StopTimer()
+			if _, stderr, code := cli(b, "run", plant, "--out", out, "-q", "--no-evaluate"); code != exitOK {
+				b.Fatal(stderr)
+			}
+			b.StartTimer()
+		}
+		for i := 0; i < b.N; i++ {
+			os.Remove(filepath.Join(out, evalstage.Dir, evalstage.SummaryFile))
+			if _, stderr, code := cli(b, "evaluate", out, "-q"); code != exitOK {
+				b.Fatal(stderr)
+			}
+		}
+	})
+}
