@@ -142,6 +142,7 @@ func TestStaleOutputsAndTemporariesSwept(t *testing.T) {
 		"features/.index.csv.tmp-42",
 		"splits/.lists.csv.tmp-7",
 		".report.html.tmp-99",
+		"evaluate/.summary.json.tmp-3",
 		path.Join(path.Dir(path.Dir(anyAug)), ".ledger.jsonl.tmp-5"),
 	}
 	foreign := []string{

@@ -1146,6 +1146,7 @@ func TestHostileOut(t *testing.T) {
 	deleted := "pump-a1/duty/take-04.wav"
 	cases := []hostileCase{
 		reserved("report.html"),
+		reserved("evaluate"),
 		reserved("features"),
 		reserved("splits"),
 		refused("OUT is the recordings root", "{rec}", nil, "{rec}", "recordings root"),
