@@ -29,6 +29,8 @@ type fakeClip struct {
 	// moves every band (a variant's gain, or another condition).
 	raise int
 	shift float64
+	// flat leaves the noise out: every frame the same
+	flat bool
 }
 
 const (
@@ -63,7 +65,10 @@ func fakeOut(t *testing.T, rows []fakeClip) string {
 		data := make([]float32, fakeFrames*fakeBands)
 		for f := 0; f < fakeFrames; f++ {
 			for b := 0; b < fakeBands; b++ {
-				v := -40 - 3*float64(b) + r.shift + rng.NormFloat64()
+				v := -40 - 3*float64(b) + r.shift
+				if !r.flat {
+					v += rng.NormFloat64()
+				}
 				if b == r.raise && r.raise > 0 {
 					v += 12
 				}
@@ -388,6 +393,28 @@ func TestDomainShiftRows(t *testing.T) {
 	for _, r := range m.Results {
 		if r.Condition == "b" {
 			t.Errorf("real row for the hold-out without anomalies: %+v", r)
+		}
+	}
+}
+
+// A detector that cannot be fitted (training clips that never vary) leaves
+// its numbers without value and a note saying why; the other still scores.
+func TestUnfittableDetectorIsANote(t *testing.T) {
+	var rows []fakeClip
+	for g := 0; g < 3; g++ {
+		grp := fmt.Sprintf("m1/a/take-%d", g)
+		rows = append(rows, fakeClip{cond: "a", group: grp, use: features.UseTrainNormal, origin: "recorded", label: "normal", split: "train", flat: true},
+			fakeClip{cond: "a", group: fmt.Sprintf("m1/a/eval-%d", g), use: features.UseEval, origin: "recorded", label: "normal", split: "eval", flat: true},
+			fakeClip{cond: "a", group: fmt.Sprintf("m1/a/anomalous-%d", g), use: features.UseTest, origin: "recorded", label: "anomalous", split: "test", flat: true, raise: 3})
+	}
+	s, _ := runFake(t, fakeOut(t, rows), Options{})
+	m := s.Machines[0]
+	if len(m.Notes) == 0 || !strings.Contains(m.Notes[0], "gaussian detector on training set recorded") {
+		t.Errorf("notes %q", m.Notes)
+	}
+	for _, r := range m.Results {
+		if got := r.Sets[0].AUC.Valid(); got != (r.Detector == "knn") {
+			t.Errorf("%s: AUC valid %v", r.Detector, got)
 		}
 	}
 }

@@ -154,13 +154,7 @@ func Run(ctx context.Context, opt Options) (*Summary, error) {
 	for _, c := range clips {
 		byMachine[c.machine] = append(byMachine[c.machine], c)
 	}
-	ids := slices.Sorted(func(yield func(string) bool) {
-		for id := range byMachine {
-			if !yield(id) {
-				return
-			}
-		}
-	})
+	ids := slices.Sorted(maps.Keys(byMachine))
 	total := 0
 	need := map[string][]*clip{}
 	for _, id := range ids {
@@ -269,7 +263,7 @@ func needed(cs []*clip, masked bool) []*clip {
 // evalMachine fits and scores one machine's detectors and measures its
 // variants' credibility.
 func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint64, opt Options, dets []detectorSpec) (*MachineSummary, error) {
-	ms := &MachineSummary{Machine: id, Results: []Result{}, Proxy: []Result{}, Shift: []Result{}}
+	ms := &MachineSummary{Machine: id, Results: []Result{}, Proxy: []Result{}, Shift: []Result{}, Notes: []string{}}
 	conds := conditionOrder(id, cs, pl)
 	holdOut := func(c string) bool { return pl.holdOut[id+"/"+c] }
 	anomalous := map[string]bool{}
@@ -327,6 +321,9 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 			}
 		}
 	}
+	// a detector that cannot be fitted (training clips that do not vary)
+	// leaves its scores without value and says why in the notes
+	fitErrs := make([]error, len(jobs))
 	err := pool.Each(ctx, len(jobs), opt.Workers, func(ctx context.Context, _, i int) error {
 		j := jobs[i]
 		var train [][][]float64
@@ -340,7 +337,12 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 		}
 		d := dets[j.det].make()
 		if err := d.Fit(train); err != nil {
-			return fmt.Errorf("evalstage: machine %s: %s detector on training set %s: %w", id, dets[j.det].name, sets[j.set].info.Name, err)
+			where := ""
+			if j.cond != "" {
+				where = " of condition " + j.cond
+			}
+			fitErrs[i] = fmt.Errorf("%s detector on training set %s%s: %w", dets[j.det].name, sets[j.set].info.Name, where, err)
+			return nil
 		}
 		for k, t := range targets {
 			if err := ctx.Err(); err != nil {
@@ -358,6 +360,11 @@ func evalMachine(ctx context.Context, id string, cs []*clip, pl plan, seed uint6
 	})
 	if err != nil {
 		return nil, err
+	}
+	for _, e := range fitErrs {
+		if e != nil {
+			ms.Notes = append(ms.Notes, e.Error())
+		}
 	}
 	// scopes of the results: the machine's training conditions pooled,
 	// then each condition
@@ -584,13 +591,7 @@ func trainingSets(cs []*clip, opt Options) []trainSet {
 		sets = append(sets, mk(SetMasked, append(slices.Clone(exp), masked...)))
 	}
 	if opt.Ablate {
-		for _, k := range slices.Sorted(func(yield func(string) bool) {
-			for k := range kinds {
-				if !yield(k) {
-					return
-				}
-			}
-		}) {
+		for _, k := range slices.Sorted(maps.Keys(kinds)) {
 			var keep []*clip
 			for _, c := range exp {
 				if !slices.Contains(c.steps, k) {

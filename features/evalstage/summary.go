@@ -96,6 +96,9 @@ type MachineSummary struct {
 	// at all; 1: every clip of it).
 	Shift       []Result    `json:"domain_shift"`
 	Credibility Credibility `json:"credibility"`
+	// Notes say why a number has no value (a detector that could not be
+	// fitted).
+	Notes []string `json:"notes"`
 	// ROC is the ROC picture, relative to the output root ("" when no
 	// scope had real anomalies).
 	ROC string `json:"roc_picture,omitempty"`

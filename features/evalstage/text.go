@@ -123,7 +123,14 @@ func (s *Summary) Tables() []features.ReportTable {
 			worst = append(worst, []string{m.Machine, v.Condition, num(v.Score), strings.Join(v.Steps, ", "), v.Path})
 		}
 	}
+	var notes [][]string
+	for _, m := range s.Machines {
+		for _, n := range m.Notes {
+			notes = append(notes, []string{m.Machine, n})
+		}
+	}
 	tabs = append(tabs,
+		features.ReportTable{Title: "Notes", Header: []string{"machine", "note"}, Rows: notes},
 		features.ReportTable{Title: "Credibility of the variants", Rows: cred,
 			Header: []string{"machine", "condition", "recorded/variants/eval normals", "Fréchet recorded–variants", "Fréchet recorded–eval normals", "outlier median", "outlier max", fmt.Sprintf("outliers > %g", OutlierThreshold)},
 			Note:   "Squared Fréchet distances between Gaussian fits of clip embeddings (per-band mean and spread of the log-mel). Variants closer to the recordings than the eval recordings are stay within the real spread of the condition. Outlier score: distance to the nearest recorded training clip over the recordings' own typical nearest-neighbour distance; about 1 is typical."},
