@@ -38,7 +38,7 @@ func (e *env) expandJob(ctx context.Context, j job) jobResult {
 		return res
 	}
 	scratch := &workspace{}
-	err := r.ReadClips(e.counted(&res, func(c machine.Clip, x []float64) error {
+	err := r.ReadClipsOf(j.clips(), e.counted(&res, func(c machine.Clip, x []float64) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
@@ -99,10 +99,10 @@ func (e *env) recordedEntry(r *machine.Recording, c machine.Clip, folder, st str
 // order the job makes them, when each of them still holds (see reusable);
 // ok is false as soon as one does not.
 func (e *env) allReused(j job, recipe *machine.Recipe, trains func(machine.Clip) bool, folder, st string) (es []ledger.Entry, ok bool, err error) {
-	if len(e.previous) == 0 || len(j.rec.Clips) == 0 {
+	if len(e.previous) == 0 || len(j.clips()) == 0 {
 		return nil, false, nil
 	}
-	for _, c := range j.rec.Clips {
+	for _, c := range j.clips() {
 		old, ok := e.reusable(e.recordedEntry(j.rec, c, folder, st))
 		if !ok {
 			return nil, false, nil

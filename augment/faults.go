@@ -29,14 +29,14 @@ func (e *env) faultJob(ctx context.Context, j job) jobResult {
 		return res
 	}
 	trains := false
-	for _, c := range r.Clips {
+	for _, c := range j.clips() {
 		trains = trains || e.opt.Policy.Trains(r, c)
 	}
 	if !trains {
 		return res
 	}
 	st := stem(r)
-	err := r.ReadClips(e.counted(&res, func(c machine.Clip, x []float64) error {
+	err := r.ReadClipsOf(j.clips(), e.counted(&res, func(c machine.Clip, x []float64) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}

@@ -17,11 +17,21 @@ import (
 
 // job is one usable recording of the shard, with its index in job order.
 type job struct {
-	index int
-	rec   *machine.Recording
-	m     *machine.Machine
-	c     *machine.Condition
+	index    int
+	rec      *machine.Recording
+	m        *machine.Machine
+	c        *machine.Condition
+	from, to int // the job's clips: rec.Clips[from:to]
 }
+
+// clipsPerJob is the most clips one job takes: a long recording is cut
+// into runs of clips on several workers. Each clip's outputs depend only
+// on the clip, and the jobs' entries join in clip order, so the bytes do
+// not depend on the cut.
+const clipsPerJob = 16
+
+// clips returns the job's clips.
+func (j job) clips() []machine.Clip { return j.rec.Clips[j.from:j.to] }
 
 // jobResult is what a job wrote or reused, as ledger entries.
 type jobResult struct {
@@ -73,7 +83,10 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 			}
 			envs[m.ID] = e
 		}
-		jobs = append(jobs, job{index: len(jobs), rec: r, m: m, c: m.Condition(r.Condition)})
+		for from := 0; from == 0 || from < len(r.Clips); from += clipsPerJob {
+			to := min(from+clipsPerJob, len(r.Clips))
+			jobs = append(jobs, job{index: len(jobs), rec: r, m: m, c: m.Condition(r.Condition), from: from, to: to})
+		}
 	}
 	// previous entries, for resuming
 	for id, e := range envs {
@@ -97,7 +110,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 
 	var clips int64
 	for _, j := range jobs {
-		clips += int64(len(j.rec.Clips))
+		clips += int64(len(j.clips()))
 	}
 	prog := pool.NewReporter(opt.Progress, string(stage), pool.UnitClips, clips)
 	batch := &machine.Batch{}
@@ -130,7 +143,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 				w++
 			}
 		}
-		prog.Add(int64(len(j.rec.Clips))-r.ticked, w, rej, j.m.ID, j.rec.Rel)
+		prog.Add(int64(len(j.clips()))-r.ticked, w, rej, j.m.ID, j.rec.Rel)
 		return nil
 	})
 	// The waiting outputs are complete whether the pool stopped early or
@@ -148,7 +161,7 @@ func runStage(ctx context.Context, inv *machine.Inventory, opt Options, stage le
 			s = &Summary{Machine: j.m.ID, Rejected: map[string]int{}, Undefined: map[string]int{}, Faults: map[string]int{}}
 			sums[j.m.ID] = s
 		}
-		s.Clips += len(j.rec.Clips)
+		s.Clips += len(j.clips())
 		s.Reused += reused[i]
 		for _, e := range results[i] {
 			if e.Kind == ledger.KindRejected {

@@ -239,7 +239,7 @@ func (cv *converter) span(dst []float64, start int64) error {
 
 // readConverted is ReadClips for a recording that selects a channel, is
 // resampled or is low-passed.
-func (r *Recording) readConverted(fn func(c Clip, x []float64) error) error {
+func (r *Recording) readConverted(clips []Clip, fn func(c Clip, x []float64) error) error {
 	f, err := wavio.Open(r.Path)
 	if err != nil {
 		return err
@@ -247,7 +247,7 @@ func (r *Recording) readConverted(fn func(c Clip, x []float64) error) error {
 	defer f.Close()
 	cv := r.newConverter(f)
 	var out []float64
-	for _, c := range r.Clips {
+	for _, c := range clips {
 		want := int(c.Frames - c.Pad)
 		out = grow(out, int(c.Frames))
 		clear(out)
@@ -303,6 +303,10 @@ func (s *monoSource) window(lo, hi int64) ([]float64, int64, error) {
 	switch {
 	case lo >= end:
 		s.buf = s.buf[:0]
+		if lo > end && !s.finished && s.f.Format().Codec == "" && s.f.SeekFrame(lo) == nil {
+			// a WAV file seeks where FLAC reads forward
+			end = lo
+		}
 		if lo > end && !s.finished {
 			if err := s.f.Skip(lo - end); err != nil {
 				if !errors.Is(err, io.EOF) {

@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -335,5 +336,56 @@ func TestBandwidthKey(t *testing.T) {
 	}
 	if a := toneAmp(x, 1000, 16000); math.Abs(20*math.Log10(a/0.3)) > 0.01 {
 		t.Errorf("1 kHz at %.5f", a)
+	}
+}
+
+// A run of clips read on its own (ReadClipsOf, as a job of a long
+// recording does) gives each clip the samples ReadClips gives it, whether
+// the file is read as it is, seeked in, or resampled and low-passed.
+func TestReadClipsOfMatchesReadClips(t *testing.T) {
+	inv := ingestPlant(t, "", func(root string) {
+		c := filepath.Join(root, "full-load")
+		writeWAV(t, filepath.Join(c, "native.wav"), tones(7*16000+77, 16000, 440, 0.3, 3000, 0.1), 16000, 1)
+		writeWAV(t, filepath.Join(c, "stereo.wav"), tones(2*(6*16000+5), 16000, 700, 0.2), 16000, 2)
+		writeWAV(t, filepath.Join(c, "fast.wav"), tones(6*48000+123, 48000, 440, 0.2, 9000, 0.1), 48000, 1)
+		writeWAV(t, filepath.Join(c, "slow.wav"), tones(5*12000+9, 12000, 300, 0.2), 12000, 1)
+	})
+	// alone at the working rate, a file is read as it is (no conversion)
+	plain := ingestPlant(t, "", func(root string) {
+		writeWAV(t, filepath.Join(root, "full-load", "plain.wav"), tones(7*16000+77, 16000, 440, 0.3, 3000, 0.1), 16000, 1)
+	})
+	if r := byRel(plain)["pump-a1/full-load/plain.wav"]; r == nil || r.converted() {
+		t.Fatalf("plain recording %+v is converted", r)
+	}
+	for _, rel := range []string{"plain.wav", "native.wav", "stereo.wav", "fast.wav", "slow.wav"} {
+		t.Run(rel, func(t *testing.T) {
+			r := byRel(inv)["pump-a1/full-load/"+rel]
+			if rel == "plain.wav" {
+				r = byRel(plain)["pump-a1/full-load/"+rel]
+			}
+			if r == nil || len(r.Clips) < 4 {
+				t.Fatalf("recording %s: %+v", rel, r)
+			}
+			want := clipsOf(t, r)
+			for _, run := range [][2]int{{0, 1}, {1, 3}, {2, len(r.Clips)}, {len(r.Clips) - 1, len(r.Clips)}} {
+				i := run[0]
+				err := r.ReadClipsOf(r.Clips[run[0]:run[1]], func(c Clip, x []float64) error {
+					if c.Index != r.Clips[i].Index {
+						t.Errorf("run %v: clip %d, want %d", run, c.Index, r.Clips[i].Index)
+					}
+					if !slices.Equal(x, want[i]) {
+						t.Errorf("run %v: clip %d differs from ReadClips'", run, c.Index)
+					}
+					i++
+					return nil
+				})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if i != run[1] {
+					t.Errorf("run %v: %d clips, want %d", run, i-run[0], run[1]-run[0])
+				}
+			}
+		})
 	}
 }

@@ -639,11 +639,19 @@ func (r *Recording) ReadSpan(dst []float64, start, frames int64) ([]float64, err
 // and band-limited as Scan decided), calling fn with each clip's samples.
 // The slice is reused between calls.
 func (r *Recording) ReadClips(fn func(c Clip, x []float64) error) error {
+	return r.ReadClipsOf(r.Clips, fn)
+}
+
+// ReadClipsOf is ReadClips for some of the recording's clips, in order
+// (clips must be a run of r.Clips, as r.Clips[i:j]): each clip's samples
+// are those ReadClips gives it, wherever the run starts, so a recording's
+// clips can be read in ranges on several workers.
+func (r *Recording) ReadClipsOf(clips []Clip, fn func(c Clip, x []float64) error) error {
 	if r.Err != nil {
 		return r.Err
 	}
 	if r.converted() {
-		return r.readConverted(fn)
+		return r.readConverted(clips, fn)
 	}
 	f, err := wavio.Open(r.Path)
 	if err != nil {
@@ -652,9 +660,15 @@ func (r *Recording) ReadClips(fn func(c Clip, x []float64) error) error {
 	defer f.Close()
 	ch := r.Format.Channels
 	var pos int64
+	if len(clips) > 0 && clips[0].Start > 0 && r.Format.Codec == "" {
+		// a WAV file seeks to the run's first clip instead of reading up to it
+		if err := f.SeekFrame(clips[0].Start); err == nil {
+			pos = clips[0].Start
+		}
+	}
 	var frame []float64
 	var mono []float64
-	for _, c := range r.Clips {
+	for _, c := range clips {
 		if c.Start > pos {
 			if err := f.Skip(c.Start - pos); err != nil {
 				return err
