@@ -12,6 +12,8 @@ import (
 	"thrum/machine"
 )
 
+var posInf = math.Inf(1)
+
 // LevelFloorDB is the lowest level Summarize reports (amplitude 1e-10), so
 // that silence gives a finite number.
 const LevelFloorDB = -200
@@ -116,7 +118,10 @@ func (z *Summarizer) timeStats(x []float64, fs float64) Summary {
 	for i, v := range x {
 		sum += v
 		sq += v * v
-		peak = math.Max(peak, math.Abs(v))
+		// math.Max(peak, |v|) without its call: NaN wins, except over +Inf
+		if a := math.Abs(v); a > peak || a == posInf || (a != a && peak != posInf) {
+			peak = a
+		}
 		if i > 0 && (v >= 0) != (x[i-1] >= 0) {
 			crossings++
 		}

@@ -251,3 +251,26 @@ func slicesEqual32(a, b []float32) bool {
 	}
 	return true
 }
+
+// The summary's peak follows math.Max over |x| in every case of
+// non-finite samples (NaN wins, except over +Inf), as it did when it
+// called math.Max.
+func TestSummaryPeakNonFinite(t *testing.T) {
+	nan, inf := math.NaN(), math.Inf(1)
+	z, err := NewSummarizer(Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, x := range [][]float64{
+		{0.5, -0.25}, {0, -0.0}, {0.1, nan, 0.2}, {nan, inf, 0.3}, {0.2, -inf, nan}, {nan}, {-inf}, {nan, 0.9},
+	} {
+		want := 0.0
+		for _, v := range x {
+			want = math.Max(want, math.Abs(v))
+		}
+		got := z.timeStats(x, 16000)
+		if w := levelDB(want); math.Float64bits(got.PeakdBFS) != math.Float64bits(w) {
+			t.Errorf("%v: peak %v dBFS, math.Max gives %v", x, got.PeakdBFS, w)
+		}
+	}
+}
