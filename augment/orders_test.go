@@ -281,7 +281,7 @@ func TestPentaSystemSolves(t *testing.T) {
 	for _, tc := range []struct{ n, step int }{{10, 1}, {37, 4}, {200, 7}} {
 		g := newKnotGrid(tc.n, tc.step)
 		const lambda = 3.7
-		s := g.system(lambda)
+		s := g.system(new(arena), lambda)
 		want := make([]complex128, g.J)
 		for j := range want {
 			want[j] = complex(math.Sin(float64(j)), math.Cos(float64(3*j)))
@@ -305,11 +305,53 @@ func TestPentaSystemSolves(t *testing.T) {
 			b[r+1] -= 2 * lambda * a
 			b[r+2] += lambda * a
 		}
-		s.solve(b)
+		s.solve(b, 1)
 		for j := range b {
 			if cmplx.Abs(b[j]-want[j]) > 1e-9 {
 				t.Fatalf("n %d step %d: x[%d] = %v, want %v", tc.n, tc.step, j, b[j], want[j])
 			}
 		}
+	}
+}
+
+// Odd inputs give a clip of the same length with finite samples: silence,
+// clips shorter than a knot grid or a tracking frame, no speed band, no
+// change, every order above Nyquist, a shaft fast enough that nothing is
+// decimated.
+func TestOrderSpeedOddInputs(t *testing.T) {
+	tone := func(fs, f float64, n int) []float64 {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = 0.1 * math.Sin(2*math.Pi*f*float64(i)/fs)
+		}
+		return x
+	}
+	cases := []struct {
+		name string
+		o    OrderSpeed
+		fs   float64
+		x    []float64
+	}{
+		{"silent", OrderSpeed{Ratio: 1.02, ShaftHz: 25, BandPercent: 2}, 16000, make([]float64, 32000)},
+		{"one sample", OrderSpeed{Ratio: 1.02, ShaftHz: 25, BandPercent: 2}, 16000, []float64{0.5}},
+		{"50 ms", OrderSpeed{Ratio: 1.02, ShaftHz: 25, BandPercent: 2}, 16000, tone(16000, 25, 800)},
+		{"0.4 s", OrderSpeed{Ratio: 1.02, ShaftHz: 25, BandPercent: 2, MainsHz: 60}, 16000, tone(16000, 25, 6400)},
+		{"no band", OrderSpeed{Ratio: 1.02, ShaftHz: 25}, 16000, tone(16000, 25, 32000)},
+		{"ratio 1", OrderSpeed{Ratio: 1, ShaftHz: 25, BandPercent: 2}, 16000, tone(16000, 25, 32000)},
+		{"above Nyquist", OrderSpeed{Ratio: 1.02, ShaftHz: 5000, BandPercent: 2}, 8000, tone(8000, 500, 16000)},
+		{"not decimated", OrderSpeed{Ratio: 1.02, ShaftHz: 180, BandPercent: 2, Orders: 8}, 8000, tone(8000, 180, 16000)},
+		{"zero ratio", OrderSpeed{ShaftHz: 25}, 16000, tone(16000, 25, 1000)},
+	}
+	for _, c := range cases {
+		y := c.o.Apply(nil, c.x, c.fs)
+		if len(y) != len(c.x) || !finiteSamples(y) {
+			t.Errorf("%s: %d samples out of %d, finite %v", c.name, len(y), len(c.x), finiteSamples(y))
+		}
+	}
+	// the undecimated path moves the line too
+	x := tone(8000, 180, 16000)
+	y := OrderSpeed{Ratio: 1.02, ShaftHz: 180, BandPercent: 2, Orders: 8}.Apply(nil, x, 8000)
+	if got := lineHz(y, 8000, 183.6, 1); math.Abs(got-183.6) > 0.04 {
+		t.Errorf("not decimated: line at %.3f Hz, want 183.6", got)
 	}
 }
