@@ -47,7 +47,7 @@ func TestNearDuplicateSearch(t *testing.T) {
 	for i := range 20 {
 		for j := 20; j < 40; j++ {
 			for off := -300; off <= 300; off += 2*ixDrift + 1 {
-				if e, _, _ := new(verifier).verify(prints[i], prints[j], off); e < lowest {
+				if e, _, _ := new(verifier).verify(prints[i], prints[j], off, 0); e < lowest {
 					lowest = e
 				}
 			}
@@ -148,8 +148,9 @@ func flipBits(rng *rand.Rand, w []uint32, p float64) []uint32 {
 }
 
 // verifyRef is the plain statement of verify: the float table of block
-// BERs and the line search with bounds tests.
-func verifyRef(q, d []uint32, off int) (float64, int) {
+// BERs and the line search with bounds tests, keeping the line with the
+// lowest BER − Threshold(bits compared, maxBER).
+func verifyRef(q, d []uint32, off int, maxBER float64) (float64, int) {
 	nb := len(q) / ixBlock
 	if nb == 0 {
 		return 1, off
@@ -168,7 +169,7 @@ func verifyRef(q, d []uint32, off int) (float64, int) {
 		}
 	}
 	mid := float64(len(q)) / 2
-	best, bestOff := 2.0, off
+	best, bestSig, bestOff := 2.0, math.Inf(1), off
 	for r := -6; r <= 6; r++ {
 		rho := 0.005 * float64(r)
 		for j0 := range no {
@@ -185,8 +186,9 @@ func verifyRef(q, d []uint32, off int) (float64, int) {
 			if 2*n < nb || n == 0 {
 				continue
 			}
-			if e := sum / float64(n); e < best-1e-12 {
-				best, bestOff = e, off-ixDrift+j0
+			e := sum / float64(n)
+			if sig := e - Threshold(32*ixBlock*n, maxBER); sig < bestSig-1e-12 {
+				best, bestSig, bestOff = e, sig, off-ixDrift+j0
 			}
 		}
 	}
@@ -231,27 +233,29 @@ func TestVerify(t *testing.T) {
 		}
 		q = flipBits(rng, q, tc.p)
 		off := tc.shift + tc.offErr
-		want, wantOff := verifyRef(q, d, off)
-		got, _, gotOff := vs.verify(Print{Words: q}, Print{Words: d}, off)
-		if math.Abs(got-want) > 1e-12 || gotOff != wantOff {
-			t.Errorf("%s: verify %.6f at %d, reference %.6f at %d", tc.name, got, gotOff, want, wantOff)
-		} else {
-			agree++
-		}
-		for _, limit := range []float64{0.3, DefaultMaxBER} {
-			e, _, o := vs.verifyBelow(Print{Words: q}, Print{Words: d}, off, limit)
-			if got <= limit && (e != got || o != gotOff) {
-				t.Errorf("%s: verifyBelow(%.2f) %.4f at %d, verify %.4f at %d", tc.name, limit, e, o, got, gotOff)
+		for _, maxBER := range []float64{0.3, DefaultMaxBER} {
+			want, wantOff := verifyRef(q, d, off, maxBER)
+			got, n, gotOff := vs.verify(Print{Words: q}, Print{Words: d}, off, maxBER)
+			if math.Abs(got-want) > 1e-12 || gotOff != wantOff {
+				t.Errorf("%s, cap %.2f: verify %.6f at %d, reference %.6f at %d", tc.name, maxBER, got, gotOff, want, wantOff)
+			} else {
+				agree++
 			}
-			if got > limit && e <= limit {
-				t.Errorf("%s: verifyBelow(%.2f) accepts %.4f, verify %.4f", tc.name, limit, e, got)
+			// The pre-check never drops a match, and otherwise returns
+			// either verify's result or no match.
+			e, _, o := vs.verifyBelow(Print{Words: q}, Print{Words: d}, off, maxBER)
+			if n > 0 && got <= Threshold(n, maxBER) && (e != got || o != gotOff) {
+				t.Errorf("%s: verifyBelow(cap %.2f) %.4f at %d, verify %.4f at %d (a match)", tc.name, maxBER, e, o, got, gotOff)
+			}
+			if e != 1 && e != got {
+				t.Errorf("%s: verifyBelow(cap %.2f) %.4f, verify %.4f", tc.name, maxBER, e, got)
 			}
 			if e == got {
 				kept++
 			}
 		}
 	}
-	t.Logf("%d cases agree with the reference; %d of 14 pre-checks kept the full score", agree, kept)
+	t.Logf("%d of 14 cases agree with the reference; %d of 14 pre-checks kept the full score", agree, kept)
 }
 
 // TestBestPair checks the word-skipping scan against the plain one.

@@ -20,21 +20,32 @@ const (
 	// ixStride: only every ixStride-th window of an indexed print is stored;
 	// a query probes every ixQueryStride-th of its own, so every alignment
 	// meets stored windows, and the envelopes are smooth enough that a
-	// window a frame or two off matches too.
-	ixStride = 4
+	// window a frame or two off matches too. Every second window (rather
+	// than every fourth) doubles the votes of a copy whose bits are a third
+	// wrong, which chance votes of other recordings of the machine often
+	// outnumber otherwise.
+	ixStride = 2
+
 	// ixBin is the width, in frames, of the offset histogram bins.
 	ixBin = 16
 	// ixMinVotes is the least vote count (in two neighbouring bins) that
 	// makes a candidate worth verifying; large indexes need more (ixChance).
 	ixMinVotes = 4
-	// ixBlock is the verification block length in frames (~1 s); blocks are
-	// compared at offsets within ±ixDrift of the candidate's, and the best
-	// straight line through them follows a speed change of up to 3 %.
-	ixBlock = 64
+	// ixBlock is the verification block length in frames (~0.25 s); blocks
+	// are compared at offsets within ±ixDrift of the candidate's, and the
+	// best straight line through them follows a speed change of up to 3 %.
+	// Short blocks let a line use nearly all of the overlap of a shifted
+	// copy (a block must lie wholly inside the indexed print) while the
+	// drift of a 3 % speed change inside one block stays under half a frame.
+	ixBlock = 16
 	ixDrift = 20
 	// ixMaxVerify caps the candidates verified per query (most votes
 	// first), which bounds the query cost whatever the index size.
-	ixMaxVerify = 64
+	ixMaxVerify = 128
+	// ixPerPrint is the number of offset bin pairs of one indexed print
+	// that may become candidates: a copy's true offset sometimes collects
+	// fewer votes than a chance one elsewhere in the same print.
+	ixPerPrint = 2
 	// ixChance is the number of bin pairs per query that chance alone may
 	// bring to the vote threshold: a query needs at least ixMinVotes, and
 	// more when the index is so large that unrelated prints collect that
@@ -319,8 +330,14 @@ func (s *Searcher) Query(p Print) []Match {
 	cands := s.cands[:0]
 	for _, pi := range s.hot {
 		mark[pi] = false
-		if bv, bj := bestPair(votes[int(pi)*nb:(int(pi)+1)*nb], need); bv >= need {
+		row := votes[int(pi)*nb : (int(pi)+1)*nb]
+		for range ixPerPrint {
+			bv, bj := bestPair(row, need)
+			if bv < need {
+				break
+			}
 			cands = append(cands, cand{int(pi), bj*ixBin - len(w) + ixBin, bv})
+			clear(row[max(bj-1, 0):min(bj+3, nb)])
 		}
 	}
 	clear(votes)
@@ -508,8 +525,8 @@ func poissonTail(mu float64, m int) float64 {
 // offset at the query's centre. Blocks the line leaves the table or the
 // indexed print for are skipped; a line needs half the blocks. With none it
 // returns 1.
-func (vs *verifier) verify(q, d Print, off int) (float64, int, int) {
-	return vs.score(q, d, off, 1)
+func (vs *verifier) verify(q, d Print, off int, maxBER float64) (float64, int, int) {
+	return vs.score(q, d, off, 1, maxBER)
 }
 
 // verifyBelow is verify for a caller that only needs scores at or below
@@ -519,11 +536,11 @@ func (vs *verifier) verify(q, d Print, off int) (float64, int, int) {
 // of the best line is at most the half-sample mean of verify's best line,
 // which differs from that line's mean by far less than the margin, since
 // the bit errors of neighbouring frames are close.
-func (vs *verifier) verifyBelow(q, d Print, off int, limit float64) (float64, int, int) {
-	if e, _, _ := vs.score(q, d, off, 2); e > limit+ixPreMargin {
+func (vs *verifier) verifyBelow(q, d Print, off int, maxBER float64) (float64, int, int) {
+	if e, n, _ := vs.score(q, d, off, 2, maxBER); n == 0 || e > Threshold(n, maxBER)+ixPreMargin {
 		return 1, 0, off
 	}
-	return vs.score(q, d, off, 1)
+	return vs.score(q, d, off, 1, maxBER)
 }
 
 // score is verify comparing every step-th pair of frames of each block. It
@@ -531,7 +548,7 @@ func (vs *verifier) verifyBelow(q, d Print, off int, limit float64) (float64, in
 // it and the offset at the query's centre. Only live words of both prints
 // are compared; a block counts towards a line when at least half its bits
 // were compared.
-func (vs *verifier) score(qp, dp Print, off, step int) (float64, int, int) {
+func (vs *verifier) score(qp, dp Print, off, step int, maxBER float64) (float64, int, int) {
 	q, d := qp.Words, dp.Words
 	nb := len(q) / ixBlock
 	if nb == 0 {
@@ -617,7 +634,12 @@ func (vs *verifier) score(qp, dp Print, off, step int) (float64, int, int) {
 			nrow[j] = n
 		}
 	}
-	var bestDiff, bestN, bestBits int64 = 1, 0, 0 // best mean so far, as a fraction
+	// The line kept is the most significant one: the lowest BER − T(bits),
+	// T the threshold for the bits the line compared (Threshold), so a line
+	// over a few well-matching blocks does not beat a longer one that is
+	// as telling, nor the reverse.
+	var bestDiff, bestBits int64
+	bestSig := math.Inf(1)
 	bestOff := off
 	for r := -6; r <= 6; r++ {
 		rho := 0.005 * float64(r)
@@ -631,15 +653,16 @@ func (vs *verifier) score(qp, dp Print, off, step int) (float64, int, int) {
 				nsum += nbits[sb+j0]
 			}
 			n, diff := sum>>32, sum&(1<<32-1)
-			if 2*n < int64(liveBlocks) || n == 0 {
+			if 2*n < int64(liveBlocks) || n == 0 || nsum == 0 {
 				continue
 			}
-			if bestN == 0 || diff*bestBits < bestDiff*nsum {
-				bestDiff, bestN, bestBits, bestOff = diff, n, nsum, off-ixDrift+j0
+			e := float64(diff) / float64(nsum)
+			if sig := e - Threshold(int(nsum)*step, maxBER); sig < bestSig {
+				bestSig, bestDiff, bestBits, bestOff = sig, diff, nsum, off-ixDrift+j0
 			}
 		}
 	}
-	if bestN == 0 || bestBits == 0 {
+	if bestBits == 0 {
 		return 1, 0, off
 	}
 	return float64(bestDiff) / float64(bestBits), int(bestBits) * step, bestOff

@@ -4,7 +4,9 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"slices"
 	"strconv"
+	"strings"
 	"testing"
 
 	"thrum/split/internal/synthtest"
@@ -68,7 +70,10 @@ type leakResult struct {
 // from 16 kHz, and for each leak kind indexes a transformed copy of every
 // clip and queries every original: a match to its own copy is a hit, any
 // other match a false alarm among n·(n−1) distinct pairs.
-func runLeakedSets(t *testing.T, n int, lengths []float64) []leakResult {
+//
+// Only the kinds named in only (all when empty) are measured; the others'
+// copies are still drawn, so a kind sees the same copies either way.
+func runLeakedSets(t *testing.T, n int, lengths []float64, only map[string]bool) []leakResult {
 	const fs = 16000.0
 	fp := NewFingerprinter(CommonRate)
 	var out []leakResult
@@ -88,6 +93,12 @@ func runLeakedSets(t *testing.T, n int, lengths []float64) []leakResult {
 			orig[i] = fp.Print(Print{}, ToCommonRate(x, fs))
 		}
 		for _, k := range leakKinds {
+			if len(only) > 0 && !only[k.name] {
+				for _, x := range recs {
+					k.f(rng, x, fs)
+				}
+				continue
+			}
 			ix := NewIndex()
 			for i, x := range recs {
 				ix.Add(strconv.Itoa(i), fp.Print(Print{}, ToCommonRate(k.f(rng, x, fs), fs)))
@@ -117,10 +128,14 @@ func runLeakedSets(t *testing.T, n int, lengths []float64) []leakResult {
 // TestLeakedSets measures recall and false alarms on leaked sets of 1 000
 // clips (5 s and 10 s, every leak kind): at least 95 % recall per kind and
 // at most one false alarm per 10⁵ distinct pairs. It takes minutes, so it
-// runs only when THRUM_NEARDUP_EVAL is set (THRUM_NEARDUP_CLIPS changes the
-// number of clips):
+// runs only when THRUM_NEARDUP_EVAL is set. THRUM_NEARDUP_CLIPS changes the
+// number of clips, THRUM_NEARDUP_KINDS (comma-separated kind names) and
+// THRUM_NEARDUP_SECONDS (comma-separated lengths) narrow the table, e.g.
+// for a quick look at the hardest row:
 //
 //	THRUM_NEARDUP_EVAL=1 go test ./split/neardup -run TestLeakedSets -v -timeout 60m
+//	THRUM_NEARDUP_EVAL=1 THRUM_NEARDUP_CLIPS=300 THRUM_NEARDUP_KINDS='all four' THRUM_NEARDUP_SECONDS=5 \
+//	    go test ./split/neardup -run 'TestLeakedSets$' -v
 //
 // TestLeakedSetsSmall runs a small version in the default suite.
 func TestLeakedSets(t *testing.T) {
@@ -131,13 +146,35 @@ func TestLeakedSets(t *testing.T) {
 	if v, err := strconv.Atoi(os.Getenv("THRUM_NEARDUP_CLIPS")); err == nil && v > 1 {
 		n = v
 	}
-	checkLeaked(t, runLeakedSets(t, n, []float64{5, 10}))
+	lengths := []float64{5, 10}
+	if v := os.Getenv("THRUM_NEARDUP_SECONDS"); v != "" {
+		lengths = nil
+		for _, f := range strings.Split(v, ",") {
+			secs, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+			if err != nil || !(secs > 0) {
+				t.Fatalf("THRUM_NEARDUP_SECONDS: %q is not a positive number of seconds", f)
+			}
+			lengths = append(lengths, secs)
+		}
+	}
+	only := map[string]bool{}
+	if v := os.Getenv("THRUM_NEARDUP_KINDS"); v != "" {
+		for _, f := range strings.Split(v, ",") {
+			only[strings.TrimSpace(f)] = true
+		}
+		for name := range only {
+			if !slices.ContainsFunc(leakKinds, func(k leakKind) bool { return k.name == name }) {
+				t.Fatalf("THRUM_NEARDUP_KINDS: no leak kind %q", name)
+			}
+		}
+	}
+	checkLeaked(t, runLeakedSets(t, n, lengths, only))
 }
 
 // TestLeakedSetsSmall is the default-suite version of TestLeakedSets: 40
 // clips of 5 s (the shorter, harder length).
 func TestLeakedSetsSmall(t *testing.T) {
-	checkLeaked(t, runLeakedSets(t, 40, []float64{5}))
+	checkLeaked(t, runLeakedSets(t, 40, []float64{5}, nil))
 }
 
 func checkLeaked(t *testing.T, rs []leakResult) {
