@@ -26,8 +26,11 @@
 //	F(t,m) = 1  if  [E(t+L,m) − E(t+L,m+1)] − [E(t,m) − E(t,m+1)] > 0,
 //
 // with these parameters: frames of 2^⌈log2(0.03·fs)⌉ samples (512 at
-// 16 kHz), periodic Hann window, hop half a frame (16 ms); 33 bands equally
-// spaced in mel (2595·log10(1 + f/700)) from 300 Hz to min(6 kHz, 0.45 fs);
+// 16 kHz), periodic Hann window, hop half a frame (16 ms); 33
+// half-overlapping triangular bands on the mel scale (2595·log10(1 + f/700))
+// from 300 Hz to min(6 kHz, 0.45 fs), so that a speed change of a few per
+// cent, which moves every component by that fraction, shifts energy
+// smoothly between neighbouring bands rather than across a hard band edge;
 // E smoothed over 32 frames (~0.5 s) with Hann weights; lag L = 4 frames.
 // The smoothing replaces Haitsma & Kalker's long overlapping frames at a
 // fraction of the FFT cost. Silent stretches take no part: a short frame
@@ -48,33 +51,40 @@
 //
 // Index uses bit-sampling locality-sensitive hashing for the Hamming
 // distance (P. Indyk & R. Motwani 1998, "Approximate nearest neighbors:
-// towards removing the curse of dimensionality", STOC): 12 tables, each keyed by 14 bits sampled
-// at fixed random (frame, bit) positions inside a 64-frame window. Indexed
-// prints store every 4th window; a query probes every 2nd. Hits vote for (print, offset) in 16-frame bins, one saturating byte per
-// bin; keys held by more than 8 times the mean number of entries per key
-// (plus 64) are skipped, as a key that many windows share carries no
-// information. A print is a candidate when its best two neighbouring bins
-// hold at least m votes, m the larger of 4 and the smallest count that
-// fewer than 16 bin pairs would reach if the query's hits fell on the bins
-// at random (Poisson); the 64 candidates with most votes are verified.
-// Verification cuts the query into 64-frame blocks (~1 s), tables each
-// block's BER for offsets within ±20 frames of the candidate's, and takes
-// the best straight line through the table, o(b) = o0 + ρ·t_b with
-// |ρ| ≤ 3 % in 0.5 % steps (a constant shift plus the drift of a speed
-// change). A first pass on every second pair of frames rejects candidates
-// whose estimate exceeds MaxBER + 0.05. The mean BER along the best line at
-// or below Threshold(bits) is a match, bits being the number of live bits
-// compared along the line: 0.5 − c·z/(2√bits), capped at MaxBER (default
-// 0.39), from the bit error model of Haitsma & Kalker (2002): see
-// threshold.go. Fewer bits (short clips, lines over half the blocks, silent
-// stretches) give a lower threshold, so every clip length is held to the
-// same per-pair false-alarm bound. TestLeakedSets (THRUM_NEARDUP_EVAL=1)
-// measures recall and false alarms on 1 000-clip leaked sets of 5 s and
-// 10 s clips; TestLeakedSetsSmall runs a small version by default.
+// towards removing the curse of dimensionality", STOC): 12 tables, each
+// keyed by 14 bits sampled at fixed random (frame, bit) positions inside a
+// 64-frame window. Indexed prints store every 2nd window; a query probes
+// every window. Hits vote for (print, offset) in 16-frame bins, one
+// saturating byte per bin; keys held by more than 8 times the mean number
+// of entries per key (plus 64) are skipped, as a key that many windows
+// share carries no information. A print offers up to two candidate offsets:
+// its two best pairs of neighbouring bins (apart from each other) that hold
+// at least m votes, m the larger of 4 and the smallest count that fewer than
+// 16 bin pairs would reach if the query's hits fell on the bins at random
+// (Poisson); the 128 candidates with most votes are verified. (A copy whose
+// bits are a third wrong collects few votes, no more than chance gives
+// other recordings of the machine, whose hits come in clumps; hence the
+// generous candidate list.) Verification cuts the query into 16-frame
+// blocks (~0.25 s), tables each block's BER for offsets within ±20 frames
+// of the candidate's, and searches the straight lines through the table,
+// o(b) = o0 + ρ·t_b with |ρ| ≤ 3 % in 0.5 % steps (a constant shift plus
+// the drift of a speed change); a line uses every block that lies wholly in
+// the indexed print and needs half of them. Of all lines it keeps the most
+// significant one, the lowest BER − Threshold(bits), bits being the number
+// of live bits compared along the line, and the pair is a match when that
+// BER is at or below Threshold(bits): 0.5 − c·z/(2√bits), capped at MaxBER
+// (default 0.39), from the bit error model of Haitsma & Kalker (2002): see
+// threshold.go. A first pass on every second pair of frames rejects
+// candidates whose estimate exceeds its threshold by more than 0.05. Fewer
+// bits (short clips, lines over part of the blocks, silent stretches) give
+// a lower threshold, so every clip length is held to the same per-pair
+// false-alarm bound. TestLeakedSets (THRUM_NEARDUP_EVAL=1) measures recall
+// and false alarms on 1 000-clip leaked sets of 5 s and 10 s clips;
+// TestLeakedSetsSmall runs a small version by default.
 //
 // Cost: memory is 4 bytes per table per stored window (8 when the print
 // number and frame need more than 32 bits) plus 4 bytes per frame, about
-// 9 KB per 10 s clip; each searcher holds 1 byte per indexed print per
+// 15 KB per 10 s clip; each searcher holds 1 byte per indexed print per
 // 16-frame offset bin. A query touches every entry that shares one of its
 // keys, so its cost grows with the index size over 2^14: about 4 ms of one
 // core for 10 s clips against 8 500 indexed ones. Search runs one Searcher

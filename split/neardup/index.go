@@ -374,11 +374,23 @@ func (s *Searcher) Query(p Print) []Match {
 	if maxBER == 0 {
 		maxBER = DefaultMaxBER
 	}
+	// A print may be a candidate at two offsets; it is one match, at the
+	// more significant of the two (lowest BER − threshold; the first, with
+	// more votes, on a tie).
 	var out []Match
+	at := map[int]int{} // print → its match in out
 	for _, c := range cands {
 		e, n, off := s.vs.verifyBelow(p, Print{Words: ix.prints[c.pi], Dead: ix.dead[c.pi]}, c.off, maxBER)
-		if th := Threshold(n, maxBER); n > 0 && e <= th {
-			out = append(out, Match{ID: ix.ids[c.pi], Offset: off, BER: e, Votes: c.votes, Bits: n, Threshold: th})
+		th := Threshold(n, maxBER)
+		if n == 0 || e > th {
+			continue
+		}
+		m := Match{ID: ix.ids[c.pi], Offset: off, BER: e, Votes: c.votes, Bits: n, Threshold: th}
+		if k, ok := at[c.pi]; !ok {
+			at[c.pi] = len(out)
+			out = append(out, m)
+		} else if e-th < out[k].BER-out[k].Threshold {
+			out[k] = m
 		}
 	}
 	sort.Slice(out, func(i, j int) bool {
@@ -515,27 +527,29 @@ func poissonTail(mu float64, m int) float64 {
 // verify scores a candidate alignment. The query q is cut into ixBlock-frame
 // blocks and each block's BER against d is tabled for every offset within
 // ±ixDrift of off (indexed frame = query frame + offset). The score is the
-// best straight line through that table,
+// most significant straight line through that table,
 //
 //	o(b) = o0 + ρ·(centre of block b − centre of q),  |o0 − off| ≤ ixDrift,
 //	ρ ∈ {−0.03, −0.025, …, 0.03},
 //
-// i.e. a constant offset plus the linear drift of a speed change up to ±3 %;
-// the mean BER of the blocks along the best line is returned with the
-// offset at the query's centre. Blocks the line leaves the table or the
-// indexed print for are skipped; a line needs half the blocks. With none it
+// i.e. a constant offset plus the linear drift of a speed change up to ±3 %:
+// the line with the lowest BER − Threshold(bits compared, maxBER). Its BER
+// (over the live bits of its blocks) and bits are returned with the offset
+// at the query's centre. Blocks the line leaves the table or the indexed
+// print for are skipped; a line needs half the blocks. With none it
 // returns 1.
 func (vs *verifier) verify(q, d Print, off int, maxBER float64) (float64, int, int) {
 	return vs.score(q, d, off, 1, maxBER)
 }
 
-// verifyBelow is verify for a caller that only needs scores at or below
-// limit. It first scores the candidate on every second pair of frames
-// (half the bit comparisons) and returns 1 when that estimate exceeds
-// limit + ixPreMargin; otherwise it returns verify's result. The estimate
-// of the best line is at most the half-sample mean of verify's best line,
-// which differs from that line's mean by far less than the margin, since
-// the bit errors of neighbouring frames are close.
+// verifyBelow is verify for a caller that only needs matches. It first
+// scores the candidate on every second pair of frames (half the bit
+// comparisons) and returns 1 when that estimate exceeds its threshold by
+// more than ixPreMargin; otherwise it returns verify's result. A match's
+// line has a half-sample BER within far less than the margin of its full
+// one, since the bit errors of neighbouring frames are close, so the
+// estimate's most significant line is at most that margin above its
+// threshold.
 func (vs *verifier) verifyBelow(q, d Print, off int, maxBER float64) (float64, int, int) {
 	if e, n, _ := vs.score(q, d, off, 2, maxBER); n == 0 || e > Threshold(n, maxBER)+ixPreMargin {
 		return 1, 0, off

@@ -106,7 +106,15 @@ func runLeakedSets(t *testing.T, n int, lengths []float64, only map[string]bool)
 			r := leakResult{kind: k.name, seconds: secs, clips: n, pairs: n * (n - 1), worstMargin: math.Inf(-1)}
 			s := ix.NewSearcher()
 			for i := range recs {
-				for _, mt := range s.Query(orig[i]) {
+				ms := s.Query(orig[i])
+				seen := map[string]bool{}
+				for _, mt := range ms {
+					if seen[mt.ID] {
+						t.Errorf("%s, %g s: clip %d matches %s twice", k.name, secs, i, mt.ID)
+					}
+					seen[mt.ID] = true
+				}
+				for _, mt := range ms {
 					if mt.ID == strconv.Itoa(i) {
 						r.found++
 						r.worstBER = max(r.worstBER, mt.BER)
