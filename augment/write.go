@@ -9,6 +9,7 @@ import (
 	"path"
 	"path/filepath"
 	"strings"
+	"sync"
 
 	"thrum/machine"
 	"thrum/machine/ledger"
@@ -119,16 +120,22 @@ func (e *env) fit(r *machine.Recording, y []float64) float64 {
 	return Protect(y)
 }
 
-// encode encodes x in the stage's encoding and returns the bytes and their
-// sha256.
-func (e *env) encode(x []float64) ([]byte, string, error) {
-	var buf bytes.Buffer
+// encodeBufs holds encoding buffers for reuse: a clip's bytes are written
+// (to their temporary file) before the buffer goes back.
+var encodeBufs = sync.Pool{New: func() any { return new(bytes.Buffer) }}
+
+// encode encodes x in the stage's encoding into a buffer from encodeBufs
+// and returns it with the sha256 of its bytes.
+func (e *env) encode(x []float64) (*bytes.Buffer, string, error) {
+	buf := encodeBufs.Get().(*bytes.Buffer)
+	buf.Reset()
 	buf.Grow(len(x)*3 + 64)
-	if err := wavio.Encode(&buf, x, e.p.SampleRate, 1, e.encoding()); err != nil {
+	if err := wavio.Encode(buf, x, e.p.SampleRate, 1, e.encoding()); err != nil {
+		encodeBufs.Put(buf)
 		return nil, "", err
 	}
 	s := sha256.Sum256(buf.Bytes())
-	return buf.Bytes(), hex.EncodeToString(s[:]), nil
+	return buf, hex.EncodeToString(s[:]), nil
 }
 
 // emit writes y for an output entry (a rejected one has no file) atomically
@@ -149,13 +156,15 @@ func (e *env) emit(res *jobResult, ent ledger.Entry, y []float64) error {
 		res.entries = append(res.entries, ent)
 		return nil
 	}
-	b, sum, err := e.encode(y)
+	buf, sum, err := e.encode(y)
 	if err != nil {
 		return err
 	}
 	ent.SHA256 = sum
 	line := ent
-	if err := e.batch.Write(filepath.Join(e.opt.Out, filepath.FromSlash(ent.Path)), b, func() error { return e.journal.Append(line) }); err != nil {
+	err = e.batch.Write(filepath.Join(e.opt.Out, filepath.FromSlash(ent.Path)), buf.Bytes(), func() error { return e.journal.Append(line) })
+	encodeBufs.Put(buf)
+	if err != nil {
 		return err
 	}
 	res.entries = append(res.entries, ent)

@@ -48,6 +48,7 @@ type worker struct {
 	power []float64
 	// batch makes the stage's clip files durable together
 	batch *machine.Batch
+	buf   bytes.Buffer // reused encoding buffer (npyBytes)
 }
 
 func newWorker(st machineSetup, fs float64) (*worker, error) {
@@ -101,7 +102,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 		} else {
 			res.row.sum = w.sz.Summarize(x, fs)
 		}
-		b, sum, err := npyBytes(feat, frames, w.st.cfg.Bands)
+		b, sum, err := w.npyBytes(feat, frames, w.st.cfg.Bands)
 		if err != nil {
 			return fail(err)
 		}
@@ -127,7 +128,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			e32[i] = float32(spec[i])
 		}
 		res.row.envBinHz = binHz
-		eb, esum, err := npyBytes(e32, keep)
+		eb, esum, err := w.npyBytes(e32, keep)
 		if err != nil {
 			return fail(err)
 		}
@@ -146,7 +147,7 @@ func (w *worker) do(p *machine.Plant, out string, in Input, prev *indexRow) file
 			mf := append([]float32(nil), feat...)
 			rec := w.st.masks.Apply(mf, frames, w.st.cfg.Bands, rng)
 			mpath := featurePath(in.Path, fmt.Sprintf(".mask%02d", k))
-			mb, msum, err := npyBytes(mf, frames, w.st.cfg.Bands)
+			mb, msum, err := w.npyBytes(mf, frames, w.st.cfg.Bands)
 			if err != nil {
 				return fail(err)
 			}
@@ -222,14 +223,17 @@ func writeIfChangedIn(batch *machine.Batch, file string, b []byte) error {
 	return batch.Write(file, b, nil)
 }
 
-func npyBytes(data []float32, shape ...int) ([]byte, string, error) {
-	var buf bytes.Buffer
-	buf.Grow(4*len(data) + 128)
-	if err := WriteNPY(&buf, data, shape...); err != nil {
+// npyBytes encodes data as .npy in the worker's buffer and returns the
+// bytes with their sha256; the bytes hold until its next call (each file
+// is written before the next is encoded).
+func (w *worker) npyBytes(data []float32, shape ...int) ([]byte, string, error) {
+	w.buf.Reset()
+	w.buf.Grow(4*len(data) + 128)
+	if err := WriteNPY(&w.buf, data, shape...); err != nil {
 		return nil, "", err
 	}
-	s := sha256.Sum256(buf.Bytes())
-	return buf.Bytes(), hex.EncodeToString(s[:]), nil
+	s := sha256.Sum256(w.buf.Bytes())
+	return w.buf.Bytes(), hex.EncodeToString(s[:]), nil
 }
 
 func maskSeed(plantSeed uint64, in Input, k int) uint64 {

@@ -39,7 +39,8 @@ type pendingFile struct {
 	after func() error
 }
 
-// Write writes data to path through the batch; after, when not nil, runs
+// Write writes data to path through the batch (data is not kept: it may be
+// reused once Write returns); after, when not nil, runs
 // once the file is in place. An error of the write itself leaves nothing
 // behind; an error of a flush it triggered is returned too.
 func (b *Batch) Write(path string, data []byte, after func() error) error {
