@@ -172,7 +172,7 @@ func (s *Summary) Report() *features.EvaluationSection {
 	sec := &features.EvaluationSection{
 		Notes: []string{
 			"Two baseline detectors (a Gaussian model of log-mel context vectors with Ledoit–Wolf shrinkage, and the nearest-neighbour distance between clip embeddings) are trained on normal training clips only, once on the recorded clips and once on the recorded clips with their variants, and score the recorded eval and test clips. A positive difference means the variants helped that detector; an interval that spans 0 means this data cannot tell.",
-			"Few recordings give wide intervals: read the interval before the number. Synthetic fault cues never enter training; where there are no real anomalies the proxy table scores them instead, labelled as such. Details and limits: README, section evaluate; every number is in evaluate/summary.json.",
+			"Few recordings give wide intervals: read the interval before the number. Synthetic fault cues never enter training; where there are no real anomalies the proxy table scores them instead, labelled as such. Details and limits: README, section “Does the expansion help?”; every number is in evaluate/summary.json.",
 		},
 	}
 	for _, t := range s.Tables() {
