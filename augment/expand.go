@@ -130,18 +130,28 @@ func (e *env) allReused(j job, recipe *machine.Recipe, trains func(machine.Clip)
 // the draw determines it (no samples computed).
 func (e *env) variant(j job, recipe *machine.Recipe, c machine.Clip, v int, st string) (ledger.Entry, error) {
 	r := j.rec
-	seed := VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "variant")
+	ent, err := e.seeded(j, recipe, c, VariantSeed(e.p.Seed, r.Machine, r.SHA256, c.Index, v, "variant"))
+	if err != nil {
+		return ledger.Entry{}, err
+	}
+	ent.Variant = v
+	ent.Path = fmt.Sprintf("%s/%s/augmented/%s-c%04d-v%02d.wav", r.Machine, r.Condition, st, c.Index, v)
+	return ent, nil
+}
+
+// seeded draws the variant of a clip a seed gives and returns its entry
+// as far as the draw determines it: no variant index, no path (the
+// expand stage's variant adds both; a served variant has neither).
+func (e *env) seeded(j job, recipe *machine.Recipe, c machine.Clip, seed uint64) (ledger.Entry, error) {
 	drawn, err := Draw(recipe, NewRand(seed), e.drawContext(j, c))
 	if err != nil {
 		return ledger.Entry{}, err
 	}
-	ent := e.base(r, c)
+	ent := e.base(j.rec, c)
 	ent.Stage = ledger.Expand
 	ent.Origin = machine.OriginAugmented
-	ent.Variant = v
 	ent.Seed = seed
 	ent.Draw = drawHash(spanMarked(records(drawn), ResampledSpeedOf(drawn)))
-	ent.Path = fmt.Sprintf("%s/%s/augmented/%s-c%04d-v%02d.wav", r.Machine, r.Condition, st, c.Index, v)
 	return ent, nil
 }
 
@@ -157,6 +167,14 @@ func (e *env) render(ws *workspace, j job, recipe *machine.Recipe, c machine.Cli
 	if err != nil {
 		return nil, ent, err
 	}
+	return e.renderEntry(ws, j, recipe, c, x, ent)
+}
+
+// renderEntry computes the variant a drawn entry (from variant or seeded)
+// describes: it draws again from the entry's seed (the steps keep what
+// they measure while applying, so each render gets its own draw) and
+// fills in the samples, measured values and scale, or the rejection.
+func (e *env) renderEntry(ws *workspace, j job, recipe *machine.Recipe, c machine.Clip, x []float64, ent ledger.Entry) ([]float64, ledger.Entry, error) {
 	drawn, err := Draw(recipe, NewRand(ent.Seed), e.drawContext(j, c))
 	if err != nil {
 		return nil, ent, err

@@ -91,3 +91,12 @@ func setupFor(p *machine.Plant, m *machine.Machine) (machineSetup, error) {
 	s.settings = hex.EncodeToString(h.Sum(nil))
 	return s, nil
 }
+
+// MachineConfig returns the resolved log-mel configuration of machine m
+// (the plant's [features] with the machine's own keys over it), the one
+// the features stage computes every log-mel array of the machine with: a
+// clip of n samples gives LogMel.Frames(n) × Bands values.
+func MachineConfig(p *machine.Plant, m *machine.Machine) (Config, error) {
+	s, err := setupFor(p, m)
+	return s.cfg, err
+}

@@ -88,6 +88,7 @@ splits with an audit, features ready for training, and a ledger of everything do
 		newExpandCmd(g),
 		newFaultsCmd(g),
 		newReplayCmd(g),
+		newServeCmd(g),
 		newChainCmd(g),
 		newSplitCmd(g),
 		newFeaturesCmd(g),
