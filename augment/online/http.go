@@ -59,22 +59,6 @@ func (s *Server) Handler(token string) http.Handler {
 			if err != nil {
 				return err
 			}
-			if req.Form == FormLogMel && d.Form != FormLogMel || req.Form != FormLogMel && d.Form == FormLogMel {
-				// a description kept from the other form: only the form
-				// and shape differ
-				c := *d
-				c.Form = req.Form
-				if c.Form == "" {
-					c.Form = FormWave
-				}
-				ms := s.machines[c.Machine]
-				if c.Form == FormLogMel {
-					c.Shape = []int{len(c.Items), ms.melFrames, ms.lmCfg.Bands}
-				} else {
-					c.Shape = []int{len(c.Items), ms.frames}
-				}
-				d = &c
-			}
 			writeJSON(w, http.StatusOK, d)
 			return nil
 		})

@@ -10,8 +10,10 @@ import (
 	"os/exec"
 	"path/filepath"
 	"regexp"
+	"strconv"
 	"strings"
 	"sync"
+	"syscall"
 	"testing"
 	"time"
 
@@ -33,7 +35,7 @@ func (w *lineWriter) Write(p []byte) (int, error) {
 	w.mu.Lock()
 	defer w.mu.Unlock()
 	w.buf.Write(p)
-	if m := servingRE.FindStringSubmatch(w.buf.String()); m != nil && !w.sent {
+	if m := servingRE.FindStringSubmatch(w.buf.String()); m != nil && !w.sent && w.addr != nil {
 		w.sent = true
 		w.addr <- m[1]
 	}
@@ -125,6 +127,32 @@ func TestServeCommand(t *testing.T) {
 	if len(d.Items) != 2 || resp.Header.Get("Content-Type") != "application/json" {
 		t.Fatalf("describe: %d items", len(d.Items))
 	}
+	// With 3 s recordings of one clip each, a speed-up has no source span
+	// (no-room-for-speed): such draws are replaced by the next seeded
+	// attempt and listed, and the item served is the first draw the guard
+	// passed.
+	resp, err = http.Get(base + "/v1/describe?machine=" + m + "&epoch=0&batch=0&size=" + strconv.Itoa(min(info.Machines[0].TrainingClips, info.MaxBatch)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var all online.Description
+	json.NewDecoder(resp.Body).Decode(&all)
+	resp.Body.Close()
+	replaced := 0
+	for _, it := range all.Items {
+		if it.Attempt != len(it.Rejected) && it.Fallback == "" {
+			t.Errorf("%s: attempt %d after %d rejections", it.ID, it.Attempt, len(it.Rejected))
+		}
+		for _, r := range it.Rejected {
+			if r.Reason == "" || r.Seed == it.Seed {
+				t.Errorf("%s: rejection %+v (served seed %d)", it.ID, r, it.Seed)
+			}
+		}
+		replaced += len(it.Rejected)
+	}
+	if replaced == 0 || all.RejectionsReplaced != replaced {
+		t.Errorf("epoch 0 of %s: %d rejections replaced in the items, %d in the batch; want some (speed-ups without room)", m, replaced, all.RejectionsReplaced)
+	}
 	if err := stop(); err != nil {
 		t.Fatalf("serve after the stop: %v, want a clean end", err)
 	}
@@ -188,4 +216,42 @@ func readmeBlock(t *testing.T, first string) string {
 	}
 	s = s[i+len("```python\n"):]
 	return s[:strings.Index(s, "```")]
+}
+
+// TestServeSignals: SIGINT and SIGTERM stop a running server cleanly: it
+// closes its record and exits with code 0.
+func TestServeSignals(t *testing.T) {
+	plant, out := servePlant(t)
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, sig := range []syscall.Signal{syscall.SIGINT, syscall.SIGTERM} {
+		cmd := exec.Command(exe, "--no-caution", "serve", plant, "--out", out, "--addr", "127.0.0.1:0", "-j", "1")
+		cmd.Env = append(os.Environ(), "THRUM_AS_CLI=1")
+		w := &lineWriter{addr: make(chan string, 1)}
+		var errb lineWriter
+		cmd.Stdout, cmd.Stderr = w, &errb
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		done := make(chan error, 1)
+		go func() { done <- cmd.Wait() }()
+		var base string
+		select {
+		case base = <-w.addr:
+		case err := <-done:
+			t.Fatalf("serve ended before serving: %v\n%s", err, errb.String())
+		}
+		resp, err := http.Get(base + "/v1/info")
+		if err != nil {
+			t.Fatal(err)
+		}
+		resp.Body.Close()
+		cmd.Process.Signal(sig)
+		err = <-done
+		if code := cmd.ProcessState.ExitCode(); code != exitOK || !strings.Contains(errb.String(), "serve: stopped") {
+			t.Errorf("%v: exit %d (%v)\n%s", sig, code, err, errb.String())
+		}
+	}
 }
