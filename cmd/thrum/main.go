@@ -4,7 +4,8 @@
 //
 // Exit codes: 0 success; 1 error; 2 bad usage (unknown command, bad flag or
 // argument); 3 the run finished but found problems (survey --strict, a
-// failed audit, a replay mismatch); 130 interrupted (SIGINT or SIGTERM).
+// failed audit, a replay mismatch); 130 interrupted (SIGINT or SIGTERM;
+// serve, which runs until stopped, exits 0 then).
 package main
 
 import (
