@@ -149,3 +149,21 @@ func TestConcurrentClients(t *testing.T) {
 		}
 	}
 }
+
+// TestTooManyRequests: a batch request beyond the concurrent-request limit
+// is refused with 429 and Retry-After, not queued without bound.
+func TestTooManyRequests(t *testing.T) {
+	s, _ := newServer(t, Options{Workers: 1, MaxRequests: 1})
+	ts := httptest.NewServer(s.Handler(""))
+	defer ts.Close()
+	u := ts.URL + "/v1/batch?machine=" + s.Machines()[0] + "&epoch=0&batch=0&size=2"
+	s.sem <- struct{}{} // one request in progress
+	code, body, h := get(t, u, "")
+	if code != http.StatusTooManyRequests || h.Get("Retry-After") == "" || !strings.Contains(string(body), "at once") {
+		t.Errorf("over the limit: %d %s (Retry-After %q), want 429", code, body, h.Get("Retry-After"))
+	}
+	<-s.sem
+	if code, body, _ := get(t, u, ""); code != http.StatusOK {
+		t.Errorf("under the limit: %d %s", code, body)
+	}
+}
