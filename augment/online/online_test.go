@@ -152,3 +152,22 @@ func TestReplay(t *testing.T) {
 		t.Errorf("item sha256 %s is not the hash of its waveform row %x", it.SHA256, sum)
 	}
 }
+
+// TestPreparedAhead: after a batch is served the next ones are being
+// prepared, and never more than Ahead × MaxRequests wait.
+func TestPreparedAhead(t *testing.T) {
+	s, _ := newServer(t, Options{Workers: 1, Ahead: 2, MaxRequests: 1})
+	id := s.Machines()[0]
+	for _, b := range []int{0, 3, 1, 5} {
+		if _, err := s.Batch(context.Background(), Request{Machine: id, Epoch: 0, Batch: b, Size: 2}); err != nil {
+			t.Fatal(err)
+		}
+		s.cache.mu.Lock()
+		n := len(s.cache.entries)
+		_, next := s.cache.entries[Request{Machine: id, Epoch: 0, Batch: b + 1, Size: 2, Form: FormWave}]
+		s.cache.mu.Unlock()
+		if n > 2 || !next {
+			t.Errorf("after batch %d: %d prepared (limit 2), next prepared %v", b, n, next)
+		}
+	}
+}
