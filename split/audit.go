@@ -86,21 +86,56 @@ type Report struct {
 	// NearDuplicate search figures.
 	Queries int `json:"queries,omitempty"`
 	Indexed int `json:"indexed,omitempty"`
+	// Groups counts the violations by rule and machine pair, in the order
+	// of Grouped (the violations themselves are in Violations).
+	Groups []GroupCount `json:"groups,omitempty"`
+}
+
+// GroupCount is the size of one group of Grouped.
+type GroupCount struct {
+	Rule     string `json:"rule"`
+	Leakage  string `json:"leakage"`
+	Machines string `json:"machines"`
+	Count    int    `json:"count"`
 }
 
 // OK reports whether no rule was broken.
 func (r *Report) OK() bool { return len(r.Violations) == 0 }
 
-// WriteText writes one line per violation, then a one-line verdict.
+// TextGroupLines is how many violations of a group WriteText prints; the
+// rest of the group is summarised in one line.
+const TextGroupLines = 5
+
+// WriteText writes the violations grouped by rule and machine pair
+// (Grouped): for each group a heading with the rule, its leakage type, the
+// machines and the count, then the group's first TextGroupLines
+// violations, one line each (files: detail), and a line counting the rest;
+// then a one-line verdict.
 func (r *Report) WriteText(w io.Writer) error {
-	for _, v := range r.Violations {
-		if _, err := fmt.Fprintln(w, v.String()); err != nil {
+	groups := r.Grouped()
+	for _, g := range groups {
+		head := g.Rule + " [" + g.Leakage + "]"
+		if g.Machines != "" {
+			head += " " + g.Machines
+		}
+		if _, err := fmt.Fprintf(w, "%s: %d violation(s)\n", head, len(g.Violations)); err != nil {
 			return err
+		}
+		for i, v := range g.Violations {
+			if i == TextGroupLines {
+				if _, err := fmt.Fprintf(w, "  … and %d more (--json lists every one)\n", len(g.Violations)-i); err != nil {
+					return err
+				}
+				break
+			}
+			if _, err := fmt.Fprintf(w, "  %s: %s\n", strings.Join(v.Files, ", "), v.Detail); err != nil {
+				return err
+			}
 		}
 	}
 	verdict := "ok"
 	if !r.OK() {
-		verdict = fmt.Sprintf("%d violation(s)", len(r.Violations))
+		verdict = fmt.Sprintf("%d violation(s) in %d group(s)", len(r.Violations), len(groups))
 	}
 	_, err := fmt.Fprintf(w, "audit: %s; leakage types checked: %s\n", verdict, strings.Join(r.Covered, "; "))
 	return err
@@ -128,6 +163,10 @@ func (r *Report) finish() {
 	}
 	sort.Strings(r.Covered)
 	sort.SliceStable(r.Violations, func(i, j int) bool { return r.Violations[i].Rule < r.Violations[j].Rule })
+	r.Groups = nil
+	for _, g := range r.Grouped() {
+		r.Groups = append(r.Groups, GroupCount{Rule: g.Rule, Leakage: g.Leakage, Machines: g.Machines, Count: len(g.Violations)})
+	}
 }
 
 // LoadFunc reads an audio file as mono samples and its sample rate.

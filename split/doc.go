@@ -127,9 +127,16 @@
 //	eval-test-file-is-a-recorded-clip    test set not drawn from the distribution of interest (L3.3)
 //	derived-files-training-only          test set not drawn from the distribution of interest (L3.3)
 //
-// Each violation is one line of Report.WriteText:
+// Report.WriteText groups the violations by rule and machine pair (the
+// machines of the files, "a ↔ b" for two), each group a heading with its
+// count and its first TextGroupLines violations, the rest counted:
 //
-//	<rule> [<leakage type>]: <file>[, <file>]: <detail>
+//	<rule> [<leakage type>] <machine>[ ↔ <machine>]: <n> violation(s)
+//	  <file>[, <file>]: <detail>
+//	  … and <k> more (--json lists every one)
+//
+// Violation.String is the one-line form of a single violation,
+// "<rule> [<leakage type>]: <file>[, <file>]: <detail>".
 //
 // Not covered: temporal leakage (L3.1; the ledger has no recording dates),
 // illegitimate features (L2) and feature selection on all data (L1.3).
