@@ -151,13 +151,13 @@ func (e *env) seeded(j job, recipe *machine.Recipe, c machine.Clip, seed uint64)
 	ent.Stage = ledger.Expand
 	ent.Origin = machine.OriginAugmented
 	ent.Seed = seed
-	ent.Draw = drawHash(spanMarked(records(drawn), ResampledSpeedOf(drawn)))
+	ent.Draw = drawHash(drawnMarked(drawn))
 	return ent, nil
 }
 
 func (e *env) drawContext(j job, c machine.Clip) DrawContext {
 	return DrawContext{Machine: j.m, Condition: j.c, HoldOutBands: j.m.HoldOutBands(j.c),
-		Backgrounds: e.bgIDs, BackgroundFrames: e.bgFrames, MicPositions: len(e.mics), ClipFrames: c.Frames}
+		Backgrounds: e.bgIDs, BackgroundFrames: e.bgFrames, MicPositions: len(e.mics), ClipFrames: c.Frames, SampleRate: e.fs}
 }
 
 // render computes variant v of a clip: the samples and the complete entry
@@ -185,21 +185,41 @@ func (e *env) renderEntry(ws *workspace, j job, recipe *machine.Recipe, c machin
 	}
 	ent.Backgrounds = BackgroundsOf(drawn)
 	speedDone := false
-	if rs := ResampledSpeedOf(drawn); rs != 1 {
-		// one clip length after the change: read the source span it needs
-		xs, sp, ok, err := e.speedSource(ws, j.rec, c, rs)
+	// one clip length after the speed and tempo changes: read the source
+	// span they need
+	span, tempo := TempoSpan(drawn, c.Frames)
+	reject := func(reason string) ([]float64, ledger.Entry, error) {
+		ent.Steps = records(drawn)
+		ent.Kind = ledger.KindRejected
+		ent.Reason = reason
+		ent.Path = ""
+		return nil, ent, nil
+	}
+	noRoom := RejectNoRoomForSpeed
+	if tempo {
+		noRoom = RejectNoRoomForTempo
+	}
+	switch rs := ResampledSpeedOf(drawn); {
+	case rs != 1:
+		xs, sp, ok, err := e.speedSource(ws, j.rec, c, span, rs)
 		if err != nil {
 			return nil, ent, err
 		}
 		if !ok {
-			ent.Steps = records(drawn)
-			ent.Kind = ledger.KindRejected
-			ent.Reason = RejectNoRoomForSpeed
-			ent.Path = ""
-			return nil, ent, nil
+			return reject(noRoom)
 		}
 		x, speedDone = xs, true
 		ent.ClipStart, ent.ClipFrames = sp.Start, sp.Frames
+	case tempo:
+		xs, start, ok, err := e.tempoSource(ws, j.rec, c, span)
+		if err != nil {
+			return nil, ent, err
+		}
+		if !ok {
+			return reject(noRoom)
+		}
+		x = xs
+		ent.ClipStart, ent.ClipFrames = start, span
 	}
 	y, applied, reason := e.apply(ws, x, drawn, j.c, speedDone)
 	ent.Steps = applied

@@ -130,7 +130,7 @@ func (e *env) faultRender(j job, c machine.Clip, x []float64, ki, k int, kind, s
 	var y []float64
 	if d.ratio != 1 {
 		// one clip length after the change: read the source span it needs
-		xs, sp, ok, err := e.speedSource(&workspace{}, j.rec, c, d.ratio)
+		xs, sp, ok, err := e.speedSource(&workspace{}, j.rec, c, c.Frames, d.ratio)
 		if err != nil {
 			return nil, ent, err
 		}

@@ -56,6 +56,9 @@ type DrawContext struct {
 	MicPositions int
 	// ClipFrames is the clip's length in frames.
 	ClipFrames int64
+	// SampleRate is the working sample rate in Hz (the tempo steps' reach
+	// past their span depends on it); 0 when unknown.
+	SampleRate float64
 }
 
 // uniform draws from [lo, hi], quantised to lo + k·inc when inc > 0.

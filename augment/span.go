@@ -67,16 +67,17 @@ func planSpeedSpan(clipStart, n, total int64, rs *Resampler) (speedSpan, bool) {
 	return sp, true
 }
 
-// speedSource returns the n samples of clip c changed by speed ratio r,
-// read from the recording (see speedSpan), and the span. ok is false when
-// the recording has no room for the span.
-func (e *env) speedSource(ws *workspace, rec *machine.Recording, c machine.Clip, r float64) ([]float64, speedSpan, bool, error) {
+// speedSource returns n samples from clip c's start changed by speed ratio
+// r, read from the recording (see speedSpan), and the span; n is the clip's
+// length, or the longer span a variant's tempo steps read (TempoSpan). ok
+// is false when the recording has no room for the span.
+func (e *env) speedSource(ws *workspace, rec *machine.Recording, c machine.Clip, n int64, r float64) ([]float64, speedSpan, bool, error) {
 	plans := e.plans
 	if plans == nil {
 		plans = &Plans{}
 	}
 	rs := plans.Resampler(r)
-	sp, ok := planSpeedSpan(c.Start, c.Frames, rec.WorkFrames(), rs)
+	sp, ok := planSpeedSpan(c.Start, n, rec.WorkFrames(), rs)
 	if !ok {
 		return nil, sp, false, nil
 	}
@@ -87,7 +88,25 @@ func (e *env) speedSource(ws *workspace, rec *machine.Recording, c machine.Clip,
 	ws.src = src
 	y := rs.Apply(ws.spd, src)
 	ws.spd = y
-	return y[sp.Skip : sp.Skip+int(c.Frames)], sp, true, nil
+	return y[sp.Skip : sp.Skip+int(n)], sp, true, nil
+}
+
+// tempoSource returns the n source frames a variant with tempo steps and
+// no speed change starts from: from the clip's start, moved back within
+// the recording when they would run past its end, and the span's start.
+// ok is false when the recording is shorter than n.
+func (e *env) tempoSource(ws *workspace, rec *machine.Recording, c machine.Clip, n int64) ([]float64, int64, bool, error) {
+	total := rec.WorkFrames()
+	if n > total || n <= 0 {
+		return nil, 0, false, nil
+	}
+	start := min(c.Start, total-n)
+	src, err := rec.ReadSpan(ws.src, start, n)
+	if err != nil {
+		return nil, 0, false, err
+	}
+	ws.src = src
+	return src, start, true, nil
 }
 
 // spanMarked adds to the records a draw hash is taken of a marker for
@@ -100,4 +119,16 @@ func spanMarked(recs []ledger.StepRecord, ratio float64) []ledger.StepRecord {
 		return recs
 	}
 	return append(recs[:len(recs):len(recs)], ledger.StepRecord{Kind: "source-span", Params: map[string]float64{"version": 1}})
+}
+
+// drawnMarked is spanMarked for drawn recipe steps, with one more marker
+// for variants with a tempo step: they read the source span TempoSpan and
+// write exactly one clip, so a ledger line written when tempo changed the
+// output's length does not match and the output is made again.
+func drawnMarked(drawn []Drawn) []ledger.StepRecord {
+	recs := spanMarked(records(drawn), ResampledSpeedOf(drawn))
+	if _, ok := TempoSpan(drawn, 0); ok {
+		recs = append(recs[:len(recs):len(recs)], ledger.StepRecord{Kind: "tempo-span", Params: map[string]float64{"version": 1}})
+	}
+	return recs
 }

@@ -103,7 +103,7 @@ func TestSpeedSourceMatchesWholeRecording(t *testing.T) {
 		{"slower, last clip", 0.9, 32400},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			y, sp, ok, err := e.speedSource(&workspace{}, rec, machine.Clip{Start: tc.start, Frames: n}, tc.ratio)
+			y, sp, ok, err := e.speedSource(&workspace{}, rec, machine.Clip{Start: tc.start, Frames: n}, int64(n), tc.ratio)
 			if err != nil || !ok {
 				t.Fatalf("ok %v, err %v", ok, err)
 			}

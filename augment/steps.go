@@ -98,6 +98,7 @@ func Draw(r *machine.Recipe, rng *rand.Rand, dc DrawContext) ([]Drawn, error) {
 		out = append(out, Drawn{Step: s, Params: stepKinds[s.Kind](s, rng, dc)})
 	}
 	guardSpeedTotals(out, dc)
+	planTempo(out, dc.ClipFrames, dc.SampleRate)
 	return out, nil
 }
 

@@ -61,18 +61,39 @@ func (p Pitch) Apply(dst, x []float64, fs float64) []float64 {
 
 // Apply implements Transform.
 func (t Tempo) Apply(dst, x []float64, fs float64) []float64 {
+	return t.stretch(dst, x, fs, int(math.Round(float64(len(x))/t.Factor)))
+}
+
+// tempoFrames are WSOLA's synthesis hop, frame length and search
+// tolerance in samples at fs Hz. The hop is a multiple of 8, the block
+// size of the correlation kernel.
+func tempoFrames(fs float64) (hop, frame, tol int) {
+	hop = max(int(math.Round(0.02*fs/8))*8, 8)
+	return hop, 2 * hop, hop / 2
+}
+
+// tempoReach is how far past ⌈out·Factor⌉ input samples stretch may read
+// for out outputs: the last frame starts up to the search tolerance after
+// its nominal position and is a frame long.
+func tempoReach(fs float64) int64 {
+	_, frame, tol := tempoFrames(fs)
+	return int64(frame + tol)
+}
+
+// stretch writes exactly out samples of x at tempo Factor: output sample
+// m stands for input instant m·Factor. With len(x) ≥ ⌈out·Factor⌉ +
+// tempoReach every frame is searched and read inside x, as in the middle
+// of a long input (a shorter x clamps the last frames' search at its end).
+// It panics if Factor is not positive and finite.
+func (t Tempo) stretch(dst, x []float64, fs float64, out int) []float64 {
 	a := t.Factor
 	if !(a > 0) || math.IsInf(a, 0) {
 		panic(fmt.Sprintf("augment: tempo factor %v is not positive and finite", a))
 	}
 	n := len(x)
-	out := int(math.Round(float64(n) / a))
 	dst = grow(dst, out)
 	clear(dst)
-	// The hop is a multiple of 8, the block size of the correlation kernel.
-	hop := max(int(math.Round(0.02*fs/8))*8, 8)
-	frame := 2 * hop
-	tol := hop / 2
+	hop, frame, tol := tempoFrames(fs)
 	if n == 0 || out == 0 {
 		return dst
 	}

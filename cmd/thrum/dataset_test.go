@@ -266,3 +266,114 @@ func TestSpeedWithoutRoomIsRejected(t *testing.T) {
 		t.Errorf("clip %d frames, %d speed-ups rejected, %d slow-downs checked", clip, rejected, slower)
 	}
 }
+
+// TestTempoKeepsClipLength: with a tempo step in every recipe (2 s clips,
+// remainder "pad", 5 s recordings, so the last clip of each recording is
+// padded), every augmented output is exactly one clip long; a variant
+// with a tempo step records the source span it read: ⌈n·a⌉ frames for
+// tempo factor a plus WSOLA's 50 ms reach (times the speed ratio r when it
+// also changes speed), starting at the clip's start or, near the
+// recording's end, earlier; replay of such outputs is byte-exact.
+func TestTempoKeepsClipLength(t *testing.T) {
+	dir := t.TempDir()
+	plant, err := demoplant.Write(dir, demoplant.Options{Seconds: 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := os.ReadFile(plant)
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := string(b)
+	for _, r := range [][2]string{
+		{"clip_seconds = 5\n", "clip_seconds = 2\n"},
+		{`remainder = "drop"`, `remainder = "pad"`},
+		// fewer variants, a tempo step first in each recipe
+		{"variants = 4\nmin_steps = 2\nmax_steps = 4\n", "variants = 2\nmin_steps = 2\nmax_steps = 3\n\n  [[recipe.step]]\n  kind = \"tempo\"\n  range = [-20.0, 20.0]\n  nonphysical = true\n"},
+		{"variants = 3\nmin_steps = 1\nmax_steps = 3\n", "variants = 2\nmin_steps = 2\nmax_steps = 2\n\n  [[recipe.step]]\n  kind = \"tempo\"\n  range = [-20.0, 20.0]\n  nonphysical = true\n"},
+	} {
+		if !strings.Contains(src, r[0]) {
+			t.Fatalf("demo plant has no %q", r[0])
+		}
+		src = strings.Replace(src, r[0], r[1], 1)
+	}
+	if err := os.WriteFile(plant, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	if stdout, stderr, code := cli(t, "expand", plant, "--out", out, "-q"); code != exitOK {
+		t.Fatalf("expand exit %d\n%s\n%s", code, stdout, stderr)
+	}
+	entries, err := ledger.ReadTree(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// tempoReach: WSOLA's last frame reads up to a 40 ms frame and its
+	// 10 ms search tolerance past the nominal span (augment.Tempo)
+	const n, total, tempoReach = 2 * 16000, 5 * 16000, 800
+	tempoOnly, both, moved := 0, 0, 0
+	var replay []string
+	for _, e := range entries {
+		if e.Origin != machine.OriginAugmented {
+			continue
+		}
+		if e.Kind == ledger.KindOutput {
+			a, err := wavio.ReadFile(filepath.Join(out, filepath.FromSlash(e.Path)))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if a.Frames != n {
+				t.Errorf("%s: %d frames, want one clip of %d", e.Path, a.Frames, n)
+			}
+		}
+		factor := 0.0
+		for _, s := range e.Steps {
+			if s.Kind == "tempo" {
+				factor = 1 + s.Params["percent"]/100
+			}
+		}
+		if factor == 0 {
+			continue
+		}
+		span := int64(math.Ceil(n*factor-1e-9)) + tempoReach
+		if e.Speed != 1 {
+			span = int64(math.Ceil(float64(span)*e.Speed - 1e-9))
+		}
+		if e.Kind != ledger.KindOutput {
+			if e.Reason == augment.RejectNoRoomForTempo && span <= total {
+				t.Errorf("%s clip %d variant %d: rejected for room, span %d of %d frames", e.Source, e.Clip, e.Variant, span, total)
+			}
+			continue
+		}
+		clipStart := int64(e.Clip) * n
+		want := min(clipStart, total-span)
+		if e.Speed != 1 {
+			// the speed span also keeps the resampler's reach inside
+			if e.ClipStart > clipStart || e.ClipStart < 0 || e.ClipStart+e.ClipFrames > total {
+				t.Errorf("%s: span %d+%d outside the recording or after the clip's start %d", e.Path, e.ClipStart, e.ClipFrames, clipStart)
+			}
+			both++
+		} else {
+			if e.ClipStart != want {
+				t.Errorf("%s: span starts at %d, want %d", e.Path, e.ClipStart, want)
+			}
+			tempoOnly++
+		}
+		if e.ClipFrames != span {
+			t.Errorf("%s: tempo %.3f speed %v: span of %d frames, want %d", e.Path, factor, e.Speed, e.ClipFrames, span)
+		}
+		if e.ClipStart < clipStart {
+			moved++
+			if len(replay) < 3 {
+				replay = append(replay, e.Path)
+			}
+		}
+	}
+	if tempoOnly == 0 || both == 0 || moved == 0 {
+		t.Errorf("%d tempo-only and %d tempo-and-speed outputs, %d moved back: want some of each", tempoOnly, both, moved)
+	}
+	args := append([]string{"replay", plant, "--out", out}, replay...)
+	if stdout, stderr, code := cli(t, args...); code != exitOK || strings.Count(stdout, "ok   ") != len(replay) {
+		t.Errorf("replay of %v: exit %d\n%s%s", replay, code, stdout, stderr)
+	}
+}
