@@ -32,7 +32,7 @@ const DefaultSize = 16
 func (s *Server) Check(req Request) (Request, error) {
 	if req.Machine == "" {
 		if len(s.ids) != 1 {
-			return req, badRequest("machine is required: one of %s", strings.Join(s.ids, ", "))
+			return req, badRequest("machine is required (this plant serves %s)", strings.Join(s.ids, ", "))
 		}
 		req.Machine = s.ids[0]
 	}
