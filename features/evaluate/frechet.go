@@ -65,20 +65,19 @@ func sqrtSym(c *mat.SymDense) (*mat.SymDense, error) {
 		return nil, errors.New("evaluate: frechet: eigendecomposition did not converge")
 	}
 	vals := eig.Values(nil)
-	var vec mat.Dense
-	eig.VectorsTo(&vec)
-	p := len(vals)
-	s := mat.NewSymDense(p, nil)
-	for i := range p {
-		for j := i; j < p; j++ {
-			var v float64
-			for k, l := range vals {
-				v += vec.At(i, k) * math.Sqrt(max(l, 0)) * vec.At(j, k)
-			}
-			s.SetSym(i, j, v)
+	var w mat.Dense
+	eig.VectorsTo(&w)
+	// √C = V·diag(√λ)·Vᵀ = W·Wᵀ with W = V·diag(λ^¼): one symmetric
+	// rank-k product instead of a triple loop over elements.
+	for k, l := range vals {
+		r := math.Sqrt(math.Sqrt(max(l, 0)))
+		for i := range len(vals) {
+			w.Set(i, k, w.At(i, k)*r)
 		}
 	}
-	return s, nil
+	var s mat.SymDense
+	s.SymOuterK(1, &w)
+	return &s, nil
 }
 
 // FrechetSets fits a Gaussian (mean and Ledoit–Wolf covariance) to each
