@@ -2,38 +2,12 @@ package augment
 
 import (
 	"math"
-	"os"
 	"path/filepath"
 	"testing"
+	"thrum/machine/realdata"
 
 	"thrum/machine/wavio"
 )
-
-// realData returns the folder of one real data set kept beside the
-// repository (shared/realdata, its README naming the source), or skips the
-// test.
-func realData(t testing.TB, set string) string {
-	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			break
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			t.Skip("repository root not found")
-		}
-		dir = parent
-	}
-	p := filepath.Join(dir, "..", "shared", "realdata", set)
-	if _, err := os.Stat(p); err != nil {
-		t.Skipf("real data %s not present", set)
-	}
-	return p
-}
 
 // TestOrderSpeedBearingRig runs the order-aware speed change on a 3 s
 // excerpt of the bearing rig's normal record (CWRU record 97, drive end,
@@ -41,7 +15,7 @@ func realData(t testing.TB, set string) string {
 // mains harmonics at 240.01 and 359.99 Hz on a 60 Hz supply): the 1× line
 // moves by r, the mains lines stay.
 func TestOrderSpeedBearingRig(t *testing.T) {
-	dir := realData(t, "cwru-bearing")
+	dir := realdata.Dir(t, "cwru-bearing")
 	a, err := wavio.ReadFile(filepath.Join(dir, "Normal_0_X097_DE_48000Hz.wav"))
 	if err != nil {
 		t.Fatal(err)

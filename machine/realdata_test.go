@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"thrum/machine/realdata"
 
 	"thrum/machine/dsp"
 	"thrum/machine/wavio"
@@ -18,30 +19,6 @@ import (
 
 // Tests on measured recordings kept beside the repository (realdata/, with
 // READMEs naming their sources); each skips when the folder is absent.
-
-// realData returns the folder of one real data set, or skips the test.
-func realData(t testing.TB, set string) string {
-	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			break
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			t.Skip("repository root not found")
-		}
-		dir = parent
-	}
-	p := filepath.Join(dir, "..", "shared", "realdata", set)
-	if _, err := os.Stat(p); err != nil {
-		t.Skipf("real data %s not present", set)
-	}
-	return p
-}
 
 // realPlant writes a plant.toml in a temp folder whose recordings are
 // symlinks to real files: files maps a recordings-relative path to a file.
@@ -71,7 +48,7 @@ func realPlant(t testing.TB, toml string, files map[string]string) *Plant {
 // bit-exact mono extraction of channel 0; durations and RMS levels agree
 // with numpy's reading when the system python3 has numpy.
 func TestRealArrayChannelModes(t *testing.T) {
-	dir := realData(t, "mimii-machine-sound")
+	dir := realdata.Dir(t, "mimii-machine-sound")
 	const plantTOML = `seed = 1
 sample_rate = 16000
 recordings = "recordings"
@@ -180,7 +157,7 @@ print(json.dumps({"frames": x.shape[0], "seconds": x.shape[0] / rate, "rms": rms
 // frequencies within 0.01 %; the float records beyond ±1 are noted as not
 // full-scale audio, not as clipped.
 func TestRealBearingResampled(t *testing.T) {
-	dir := realData(t, "cwru-bearing")
+	dir := realdata.Dir(t, "cwru-bearing")
 	p := realPlant(t, BearingPlantTOML(5), map[string]string{
 		"motor-de/normal/Normal_0_X097_DE_48000Hz.wav":      filepath.Join(dir, "Normal_0_X097_DE_48000Hz.wav"),
 		"motor-de/inner-race/IR007_0_X105_DE_12000Hz.wav":   filepath.Join(dir, "IR007_0_X105_DE_12000Hz.wav"),
@@ -282,7 +259,7 @@ func linePeak(x []float64, fs, lo, hi float64) float64 {
 
 // Survey (scan with levels) of the four eight-channel array files.
 func BenchmarkSurveyArrayFiles(b *testing.B) {
-	dir := realData(b, "mimii-machine-sound")
+	dir := realdata.Dir(b, "mimii-machine-sound")
 	files := map[string]string{}
 	for _, f := range []string{"fn444", "fab969", "pn113", "pab403"} {
 		files["fan-1/normal/"+f+".wav"] = filepath.Join(dir, f+".wav")

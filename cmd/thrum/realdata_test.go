@@ -6,39 +6,15 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
+	"thrum/machine/realdata"
 )
-
-// realData returns the folder of one real data set kept beside the
-// repository (realdata/, READMEs name the sources), or skips the test.
-func realData(t testing.TB, set string) string {
-	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			break
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			t.Skip("repository root not found")
-		}
-		dir = parent
-	}
-	p := filepath.Join(dir, "..", "shared", "realdata", set)
-	if _, err := os.Stat(p); err != nil {
-		t.Skipf("real data %s not present", set)
-	}
-	return p
-}
 
 // The bearing rig's records in one 12 kHz plant run end to end: the 48 kHz
 // normal record is resampled (speed variants read their source span at
 // the working rate; its ledger lines carry the source rate and
 // ratio), the float records beyond ±1 go in, nothing is dropped.
 func TestRealBearingPlantRuns(t *testing.T) {
-	data := realData(t, "cwru-bearing")
+	data := realdata.Dir(t, "cwru-bearing")
 	dir := t.TempDir()
 	for rel, src := range map[string]string{
 		"motor-de/load-0/Normal_0_X097_DE_48000Hz.wav":                     "Normal_0_X097_DE_48000Hz.wav",

@@ -3,9 +3,9 @@ package evaluate
 import (
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"testing"
+	"thrum/machine/realdata"
 
 	"thrum/features"
 	"thrum/machine"
@@ -14,30 +14,6 @@ import (
 
 // Tests on measured recordings kept beside the repository (realdata/, with
 // READMEs naming their sources); each skips when the folder is absent.
-
-// realData returns the folder of one real data set, or skips the test.
-func realData(t testing.TB, set string) string {
-	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			break
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			t.Skip("repository root not found")
-		}
-		dir = parent
-	}
-	p := filepath.Join(dir, "..", "shared", "realdata", set)
-	if _, err := os.Stat(p); err != nil {
-		t.Skipf("real data %s not present", set)
-	}
-	return p
-}
 
 // readMono reads a one-channel WAV file and returns its samples and rate.
 func readMono(t *testing.T, path string) ([]float64, int) {
@@ -127,7 +103,7 @@ func margin(s []Scored) string {
 // sets for this rig, where the faults are clear (the data's README: both
 // records rated diagnosable, the outer race "clearly diagnosable").
 func TestRealBearingRig(t *testing.T) {
-	dir := realData(t, "cwru-bearing")
+	dir := realdata.Dir(t, "cwru-bearing")
 	norm48, fs := readMono(t, filepath.Join(dir, "Normal_0_X097_DE_48000Hz.wav"))
 	if fs != 48000 {
 		t.Fatalf("healthy record at %d Hz, want 48000", fs)
@@ -194,7 +170,7 @@ func TestRealBearingRig(t *testing.T) {
 // independent (one group each), which they are not: it is narrower than
 // the spread over recordings would be.
 func TestRealMachineSound(t *testing.T) {
-	dir := realData(t, "mimii-machine-sound")
+	dir := realdata.Dir(t, "mimii-machine-sound")
 	for _, m := range []struct{ machine, normal, abnormal string }{
 		{"fan", "fn444_fan_normal_ch0_16000Hz.wav", "fab969_fan_abnormal_ch0_16000Hz.wav"},
 		{"pump", "pn113_pump_normal_ch0_16000Hz.wav", "pab403_pump_abnormal_ch0_16000Hz.wav"},
